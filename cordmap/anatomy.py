@@ -1,0 +1,99 @@
+"""Anatomy tables, loaded once from the CSV package data and checked on load.
+
+Every table has a ``source`` column; see ``cordmap/data/README.md`` for what each one holds.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+
+import pandas as pd
+
+from .errors import CordmapError, bad_value
+
+SIDES = ("left", "right")
+MODALITIES = ("pinprick", "temperature", "light_touch", "vibration", "joint_position")
+
+
+def _table(name: str, required: tuple[str, ...]) -> pd.DataFrame:
+    with resources.files("cordmap.data").joinpath(name).open("r", encoding="utf-8") as fh:
+        df = pd.read_csv(fh, dtype=str, keep_default_na=False)
+    missing = [c for c in (*required, "source") if c not in df.columns]
+    if missing:
+        raise CordmapError(f"cordmap/data/{name}: missing columns {missing}")
+    empty = df.index[df["source"].str.strip() == ""].tolist()
+    if empty:
+        raise CordmapError(f"cordmap/data/{name}: rows {empty} have no source")
+    return df
+
+
+@dataclass(frozen=True)
+class Anatomy:
+    segments: tuple[str, ...]
+    segment_table: pd.DataFrame
+    dermatomes: tuple[str, ...]
+    dermatome_table: pd.DataFrame
+    dermatome_segments: dict[str, tuple[int, ...]]
+    muscle_table: pd.DataFrame
+    key_myotomes: tuple[str, ...]
+    muscle_weights: dict[str, dict[int, float]]  # muscle myotome or name -> {segment index: weight}
+    reflex_table: pd.DataFrame
+    reflex_segments: dict[str, tuple[int, ...]]
+    column_table: pd.DataFrame
+    lamination_table: pd.DataFrame
+
+    def index(self, seg: str, where: str = "segment") -> int:
+        try:
+            return self.segments.index(seg)
+        except ValueError:
+            raise bad_value(where, seg, self.segments, "segment") from None
+
+    def column_range(self, name: str) -> range:
+        row = self.column_table.set_index("column").loc[name]
+        return range(self.index(row["first"]), self.index(row["last"]) + 1)
+
+    def vertebra(self, seg: str) -> str:
+        return self.segment_table.set_index("segment").loc[seg, "vertebra"]
+
+
+def _weights(spec: str, segs: tuple[str, ...]) -> dict[int, float]:
+    out = {}
+    for part in spec.split(";"):
+        name, w = part.split(":")
+        out[segs.index(name)] = float(w)
+    if abs(sum(out.values()) - 1) > 1e-6:
+        raise CordmapError(f"cordmap/data/muscles.csv: weights {spec!r} do not sum to 1")
+    return out
+
+
+@cache
+def anatomy() -> Anatomy:
+    seg = _table("segments.csv", ("segment", "region", "index", "vertebra", "transverse_mm", "ap_mm"))
+    segs = tuple(seg["segment"])
+    if len(segs) != 31 or segs[0] != "C1" or segs[-1] != "Co1":
+        raise CordmapError("cordmap/data/segments.csv: expected the 31 segments C1..Co1 in order")
+    if list(seg["index"].astype(int)) != list(range(31)):
+        raise CordmapError("cordmap/data/segments.csv: index column must run 0..30")
+    for v in seg["vertebra"]:
+        if v[0] not in "CTLS":
+            raise CordmapError(f"cordmap/data/segments.csv: bad vertebra {v!r}")
+    derm = _table("dermatomes.csv", ("dermatome", "segments", "key_point"))
+    dseg = {r.dermatome: tuple(segs.index(s) for s in r.segments.split(";")) for r in derm.itertuples()}
+    mus = _table("muscles.csv", ("muscle", "myotome", "key", "segments"))
+    key = tuple(mus.loc[mus["key"] == "yes", "myotome"])
+    weights = {r.myotome if r.key == "yes" else r.muscle: _weights(r.segments, segs) for r in mus.itertuples()}
+    ref = _table("reflexes.csv", ("reflex", "kind", "segments", "accepted_range"))
+    rseg = {r.reflex: tuple(segs.index(s) for s in r.segments.split(";")) for r in ref.itertuples()}
+    col = _table("columns.csv", ("column", "first", "last"))
+    for c in ("first", "last"):
+        bad = set(col[c]) - set(segs)
+        if bad:
+            raise CordmapError(f"cordmap/data/columns.csv: unknown segments {sorted(bad)}")
+    lam = _table("lamination.csv", ("tract", "axis", "outer_or_lateral", "inner_or_medial"))
+    return Anatomy(segs, seg, tuple(derm["dermatome"]), derm, dseg, mus, key, weights, ref, rseg, col, lam)
+
+
+REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "hoffmann", "abdominal_upper",
+            "abdominal_lower", "cremasteric", "knee", "ankle", "plantar")
+TENDON_REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "knee", "ankle")

@@ -1,0 +1,348 @@
+"""The findings document (format ``cordmap-findings/1``): reading, checking, writing.
+
+A `Findings` value holds one exam as a flat mapping from an item key to a canonical value.
+Item keys are tuples:
+
+* ``("sensory", modality, side, dermatome)`` -> 0 absent, 1 impaired, 2 normal
+* ``("motor", side, myotome)`` -> MRC grade 0..5, or ``"NT"``
+* ``("reflex", side, reflex)`` -> "absent" | "reduced" | "normal" | "brisk" (tendon reflexes),
+  "present" | "absent" (hoffmann, abdominal, cremasteric), "flexor" | "extensor" | "mute" (plantar)
+* ``("sign", name, side)`` -> side is "left"/"right" for horner, "" otherwise; values as in the document
+
+A key that is missing was not examined. Nothing here treats "not examined" as "normal".
+"""
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from types import MappingProxyType
+
+import pandas as pd
+
+from .anatomy import MODALITIES, REFLEXES, SIDES, TENDON_REFLEXES, anatomy
+from .errors import CordmapError, bad_value
+
+FORMAT = "cordmap-findings/1"
+PHASES = ("chronic", "acute")
+SENSORY_GRADES = {"absent": 0, "impaired": 1, "normal": 2}
+SENSORY_NAMES = {v: k for k, v in SENSORY_GRADES.items()}
+TENDON_GRADES = ("absent", "reduced", "normal", "brisk")
+NINDS = {0: "absent", 1: "reduced", 2: "normal", 3: "normal", 4: "brisk"}  # NINDS myotatic scale 0..4
+PRESENCE = ("present", "absent")
+PLANTAR = ("flexor", "extensor", "mute")
+SIGNS = {
+    "voluntary_anal_contraction": (True, False),
+    "deep_anal_pressure": (True, False),
+    "bulbocavernosus": ("present", "absent"),
+    "bladder": ("normal", "retention", "urgency"),
+    "diaphragm": ("normal", "weak"),
+}
+
+
+def reflex_values(reflex: str) -> tuple[str, ...]:
+    if reflex in TENDON_REFLEXES:
+        return TENDON_GRADES
+    if reflex == "plantar":
+        return PLANTAR
+    return PRESENCE
+
+
+def item_values(key: tuple) -> tuple:
+    """The allowed canonical values of one item."""
+    kind = key[0]
+    if kind == "sensory":
+        return (0, 1, 2)
+    if kind == "motor":
+        return (0, 1, 2, 3, 4, 5)
+    if kind == "reflex":
+        return reflex_values(key[2])
+    if key[1] == "horner":
+        return (True, False)
+    return SIGNS[key[1]]
+
+
+def all_items() -> tuple[tuple, ...]:
+    """Every item an exam can record, in a fixed order."""
+    a = anatomy()
+    items = [("sensory", m, s, d) for m in MODALITIES for s in SIDES for d in a.dermatomes]
+    items += [("motor", s, m) for s in SIDES for m in a.key_myotomes]
+    items += [("reflex", s, r) for s in SIDES for r in REFLEXES]
+    items += [("sign", "horner", s) for s in SIDES]
+    items += [("sign", name, "") for name in SIGNS]
+    return tuple(items)
+
+
+def item_label(key: tuple) -> str:
+    """Plain words for one item, e.g. 'pinprick left T10', 'left knee reflex'."""
+    if key[0] == "sensory":
+        return f"{key[1].replace('_', ' ')} {key[2]} {key[3]}"
+    if key[0] == "motor":
+        muscle = anatomy().muscle_table.set_index("myotome").loc[key[2], "muscle"]
+        return f"{key[1]} {key[2]} {muscle}"
+    if key[0] == "reflex":
+        return f"{key[1]} {key[2].replace('_', ' ')} reflex" if key[2] not in ("plantar", "hoffmann") \
+            else f"{key[1]} {key[2]} response"
+    if key[1] == "horner":
+        return f"Horner sign {key[2]}"
+    return key[1].replace("_", " ")
+
+
+@dataclass(frozen=True)
+class Findings:
+    """One bedside exam. ``items`` maps item keys (see module doc) to canonical values."""
+
+    items: Mapping[tuple, object] = field(default_factory=dict)
+    label: str = ""
+    phase: str = "chronic"
+
+    def __post_init__(self):
+        if self.phase not in PHASES:
+            raise bad_value("phase", self.phase, PHASES, "phase")
+        object.__setattr__(self, "items", MappingProxyType(dict(self.items)))
+
+    def __hash__(self):
+        return hash((self.label, self.phase, tuple(sorted(self.items.items(), key=repr))))
+
+    def get(self, key: tuple, default=None):
+        return self.items.get(key, default)
+
+    def replace(self, updates: Mapping[tuple, object] = (), remove=(), **kw) -> "Findings":
+        items = dict(self.items)
+        items.update(dict(updates))
+        for k in remove:
+            items.pop(k, None)
+        return Findings(items, kw.get("label", self.label), kw.get("phase", self.phase))
+
+    def to_dict(self) -> dict:
+        return to_document(self)
+
+    def to_json(self, indent: int | None = 2) -> str:
+        return json.dumps(to_document(self), indent=indent)
+
+    def tidy(self) -> pd.DataFrame:
+        rows = []
+        for key, value in self.items.items():
+            kind = key[0]
+            if kind == "sensory":
+                rows.append((kind, key[1], key[2], key[3], SENSORY_NAMES[value]))
+            elif kind == "motor":
+                rows.append((kind, "mrc", key[1], key[2], str(value)))
+            elif kind == "reflex":
+                rows.append((kind, key[2], key[1], "", value))
+            else:
+                rows.append((kind, key[1], key[2], "", str(value).lower()))
+        return pd.DataFrame(rows, columns=["exam", "name", "side", "segment", "value"])
+
+
+# ---------------------------------------------------------------- reading
+
+def _expand_range(spec: str, where: str) -> list[str]:
+    derms = anatomy().dermatomes
+    spec = spec.strip()
+    if spec in derms:
+        return [spec]
+    # a range "A-B"; S4-5 contains a dash itself, so try every split point
+    for i, ch in enumerate(spec):
+        if ch == "-" and spec[:i] in derms and spec[i + 1:] in derms:
+            a, b = derms.index(spec[:i]), derms.index(spec[i + 1:])
+            if a > b:
+                raise CordmapError(f"{where}: range {spec!r} runs caudal to rostral; write the rostral end first")
+            return list(derms[a:b + 1])
+    first = spec.split("-")[0]
+    raise bad_value(where, first if first not in derms else spec, derms, "dermatome")
+
+
+def _sensory_grade(v, where):
+    if isinstance(v, bool):
+        raise bad_value(where, v, ["normal", "impaired", "absent", 2, 1, 0], "sensory grade")
+    if isinstance(v, int) and v in (0, 1, 2):
+        return v
+    if isinstance(v, str) and v.strip().lower() in SENSORY_GRADES:
+        return SENSORY_GRADES[v.strip().lower()]
+    raise bad_value(where, v, ["normal", "impaired", "absent", "2", "1", "0"], "sensory grade")
+
+
+def _mapping(obj, where) -> Mapping:
+    if not isinstance(obj, Mapping):
+        raise CordmapError(f"{where}: expected an object, got {type(obj).__name__} {obj!r:.40}")
+    return obj
+
+
+def _known(keys, allowed, where, what):
+    for k in keys:
+        if k not in allowed:
+            raise bad_value(f"{where}[{k!r}]" if where else repr(k), k, allowed, what)
+
+
+def parse(doc) -> Findings:
+    """Read a findings document from a dict, a JSON string, or a path to a JSON file."""
+    if isinstance(doc, Findings):
+        return doc
+    if isinstance(doc, Path) or (isinstance(doc, str) and not doc.lstrip().startswith("{")):
+        path = Path(doc)
+        if not path.exists():
+            raise CordmapError(f"{path}: no such findings file")
+        try:
+            doc = json.loads(path.read_text(encoding="utf-8"))
+        except (UnicodeDecodeError, json.JSONDecodeError) as e:
+            raise CordmapError(f"{path}: not valid JSON ({e})") from None
+    elif isinstance(doc, (str, bytes)):
+        try:
+            doc = json.loads(doc)
+        except (UnicodeDecodeError, json.JSONDecodeError) as e:
+            raise CordmapError(f"findings: not valid JSON ({e})") from None
+    doc = _mapping(doc, "findings")
+    a = anatomy()
+    fmt = doc.get("format")
+    if fmt != FORMAT:
+        raise CordmapError(f"format: {fmt!r} is not a findings format this version reads; expected {FORMAT!r}")
+    _known(doc, ("format", "label", "phase", "sensory", "motor", "reflexes", "signs"), "", "key")
+    label = doc.get("label", "")
+    if not isinstance(label, str):
+        raise CordmapError(f"label: expected text, got {label!r:.40}")
+    phase = doc.get("phase", "chronic")
+    if phase not in PHASES:
+        raise bad_value("phase", phase, PHASES, "phase")
+    items: dict[tuple, object] = {}
+
+    sensory = _mapping(doc.get("sensory", {}), "sensory")
+    _known(sensory, MODALITIES, "sensory", "modality")
+    for mod, by_side in sensory.items():
+        by_side = _mapping(by_side, f"sensory.{mod}")
+        _known(by_side, SIDES, f"sensory.{mod}", "side")
+        for side, entries in by_side.items():
+            where0 = f"sensory.{mod}.{side}"
+            entries = _mapping(entries, where0)
+            seen: dict[str, tuple[int, str]] = {}
+            for spec, grade in entries.items():
+                where = f"{where0}[{spec!r}]"
+                g = _sensory_grade(grade, where)
+                for d in _expand_range(str(spec), where):
+                    if d in seen and seen[d][0] != g:
+                        raise CordmapError(f"{where}: {d} is also graded {SENSORY_NAMES[seen[d][0]]!r} "
+                                           f"by {seen[d][1]!r}; overlapping entries must agree")
+                    seen[d] = (g, spec)
+                    items[("sensory", mod, side, d)] = g
+
+    motor = _mapping(doc.get("motor", {}), "motor")
+    _known(motor, SIDES, "motor", "side")
+    for side, entries in motor.items():
+        entries = _mapping(entries, f"motor.{side}")
+        _known(entries, a.key_myotomes, f"motor.{side}", "myotome")
+        for myo, grade in entries.items():
+            where = f"motor.{side}[{myo!r}]"
+            if isinstance(grade, str) and grade.strip().upper() == "NT":
+                items[("motor", side, myo)] = "NT"
+            elif isinstance(grade, int) and not isinstance(grade, bool) and 0 <= grade <= 5:
+                items[("motor", side, myo)] = grade
+            elif isinstance(grade, str) and grade.strip() in list("012345"):
+                items[("motor", side, myo)] = int(grade)
+            else:
+                raise bad_value(where, grade, ["0", "1", "2", "3", "4", "5", "NT"], "MRC grade")
+
+    reflexes = _mapping(doc.get("reflexes", {}), "reflexes")
+    _known(reflexes, SIDES, "reflexes", "side")
+    for side, entries in reflexes.items():
+        entries = _mapping(entries, f"reflexes.{side}")
+        _known(entries, REFLEXES, f"reflexes.{side}", "reflex")
+        for name, value in entries.items():
+            where = f"reflexes.{side}[{name!r}]"
+            allowed = reflex_values(name)
+            if name in TENDON_REFLEXES and isinstance(value, int) and not isinstance(value, bool) and value in NINDS:
+                value = NINDS[value]
+            if not isinstance(value, str) or value.strip().lower() not in allowed:
+                extra = ["0", "1", "2", "3", "4"] if name in TENDON_REFLEXES else []
+                raise bad_value(where, value, [*allowed, *extra], "reflex grade")
+            items[("reflex", side, name)] = value.strip().lower()
+
+    signs = _mapping(doc.get("signs", {}), "signs")
+    _known(signs, ("horner", *SIGNS), "signs", "sign")
+    for name, value in signs.items():
+        if name == "horner":
+            value = _mapping(value, "signs.horner")
+            _known(value, SIDES, "signs.horner", "side")
+            for side, v in value.items():
+                if not isinstance(v, bool):
+                    raise bad_value(f"signs.horner[{side!r}]", v, ["true", "false"], "value")
+                items[("sign", "horner", side)] = v
+            continue
+        allowed = SIGNS[name]
+        if allowed == (True, False):
+            if not isinstance(value, bool):
+                raise bad_value(f"signs[{name!r}]", value, ["true", "false"], "value")
+        elif not isinstance(value, str) or value.strip().lower() not in allowed:
+            raise bad_value(f"signs[{name!r}]", value, allowed, "value")
+        else:
+            value = value.strip().lower()
+        items[("sign", name, "")] = value
+    return Findings(items, label, phase)
+
+
+load = parse
+
+
+def to_document(f: Findings) -> dict:
+    """The findings document for `f`; consecutive dermatomes with one grade are written as a range."""
+    a = anatomy()
+    doc: dict = {"format": FORMAT, "label": f.label, "phase": f.phase}
+    sensory: dict = {}
+    for mod in MODALITIES:
+        for side in SIDES:
+            run: list[tuple[str, str, int]] = []
+            for d in a.dermatomes:
+                g = f.items.get(("sensory", mod, side, d))
+                if g is None:
+                    continue
+                if run and run[-1][2] == g and a.dermatomes.index(run[-1][1]) + 1 == a.dermatomes.index(d):
+                    run[-1] = (run[-1][0], d, g)
+                else:
+                    run.append((d, d, g))
+            if run:
+                sensory.setdefault(mod, {})[side] = {
+                    (s if s == e else f"{s}-{e}"): SENSORY_NAMES[g] for s, e, g in run}
+    if sensory:
+        doc["sensory"] = sensory
+    motor = {s: {m: f.items[("motor", s, m)] for m in a.key_myotomes if ("motor", s, m) in f.items} for s in SIDES}
+    if any(motor.values()):
+        doc["motor"] = {s: v for s, v in motor.items() if v}
+    refl = {s: {r: f.items[("reflex", s, r)] for r in REFLEXES if ("reflex", s, r) in f.items} for s in SIDES}
+    if any(refl.values()):
+        doc["reflexes"] = {s: v for s, v in refl.items() if v}
+    signs: dict = {}
+    horner = {s: f.items[("sign", "horner", s)] for s in SIDES if ("sign", "horner", s) in f.items}
+    if horner:
+        signs["horner"] = horner
+    for name in SIGNS:
+        if ("sign", name, "") in f.items:
+            signs[name] = f.items[("sign", name, "")]
+    if signs:
+        doc["signs"] = signs
+    return doc
+
+
+def from_tidy(df: pd.DataFrame, label: str = "", phase: str = "chronic") -> Findings:
+    """Read one exam from a tidy table (columns exam, name, side, segment, value), as `Findings.tidy` writes."""
+    doc: dict = {"format": FORMAT, "label": label, "phase": phase}
+    for i, r in enumerate(df.itertuples(index=False)):
+        exam, name, side, seg, value = (str(getattr(r, c, "") if getattr(r, c, "") == getattr(r, c, "") else "")
+                                        .strip() for c in ("exam", "name", "side", "segment", "value"))
+        where = f"row {i + 1}"
+        if exam == "sensory":
+            doc.setdefault("sensory", {}).setdefault(name, {}).setdefault(side, {})[seg] = value
+        elif exam == "motor":
+            doc.setdefault("motor", {}).setdefault(side, {})[seg] = int(value) if value.isdigit() else value
+        elif exam == "reflex":
+            doc.setdefault("reflexes", {}).setdefault(side, {})[name] = int(value) if value.isdigit() else value
+        elif exam == "sign":
+            v: object = {"true": True, "false": False}.get(value.lower(), value)
+            if name == "horner":
+                doc.setdefault("signs", {}).setdefault("horner", {})[side] = v
+            else:
+                doc.setdefault("signs", {})[name] = v
+        elif exam == "phase":
+            doc["phase"] = value
+        else:
+            raise bad_value(f"{where}.exam", exam, ("sensory", "motor", "reflex", "sign", "phase"), "exam")
+    return parse(doc)
