@@ -1,0 +1,278 @@
+"""Forward simulation: lesion masks -> fibre losses along the extent -> bedside findings.
+
+Step 1 (`fibre_losses`): for each mask and segment, the destroyed fraction of every region of that segment's
+section (`Section.fraction_lost`), mapped onto *fibre features*: one (pathway stage, side, body segment) each,
+such as "crossed pain fibres of left T10 in the right lateral spinothalamic tract". A fibre is lost if it is cut
+anywhere, so along the extent top..bottom the losses combine as 1 - prod(1 - f_s); cumulative sums of
+log(1 - f) give every (top, bottom) pair at once.
+
+Step 2 (`readout`): bedside findings from fibre losses, by following each modality's pathway:
+pinprick/temperature: dorsal root -> entry zone -> Lissauer's tract (one to two segments up) -> dorsal horn ->
+anterior white commissure -> contralateral lateral spinothalamic tract; vibration and joint position: root ->
+entry zone -> ipsilateral dorsal column; light touch: either of the two; strength: corticospinal fibres (upper
+motor neuron) and the ventral-horn pool and ventral root (lower motor neuron); reflexes: their arc's segments
+plus the corticospinal fibres to them. Nothing here looks at a pattern's name.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import cache
+
+import numpy as np
+
+from .anatomy import SIDES, TENDON_REFLEXES, anatomy
+from .model import DEFAULT_RESOLUTION, S, sections
+
+N_SEG = 31
+STAGES = ("dorsal_root", "ventral_root", "entry", "lissauer", "dorsal_horn", "commissure", "spinothalamic",
+          "anterior_spinothalamic", "dorsal_column", "corticospinal", "anterior_corticospinal", "ventral_horn",
+          "intermediolateral", "sacral_parasympathetic", "sympathetic")
+
+
+@cache
+def feature_index() -> dict[tuple[str, int, int], int]:
+    """(stage, side 0/1, body segment) -> column. The commissure uses side 0 only; sympathetic uses body 0."""
+    keys = []
+    for stage in STAGES:
+        for side in (0, 1):
+            if stage == "commissure" and side == 1:
+                continue
+            for j in range(N_SEG):
+                if stage == "sympathetic" and j > 0:
+                    continue
+                keys.append((stage, side, j))
+    return {k: i for i, k in enumerate(keys)}
+
+
+def _region_lookup(sec):
+    by: dict[tuple[int, int, int], list[int]] = {}
+    for rid, (st, sd, body) in enumerate(sec.regions):
+        by.setdefault((st, sd, body), []).append(rid)
+    return by
+
+
+@cache
+def region_to_feature(resolution: int = DEFAULT_RESOLUTION) -> tuple[np.ndarray, ...]:
+    """Per segment, a (regions x features) matrix: column k sums to the share of feature k's fibres present there."""
+    a = anatomy()
+    fidx = feature_index()
+    t6, t1 = a.index("T6"), a.index("T1")
+    out = []
+    for sec in sections(resolution):
+        s = sec.index
+        W = np.zeros((len(sec.regions), len(fidx)), dtype=np.float32)
+        by = _region_lookup(sec)
+
+        def put(feature, regions, weight=1.0):
+            rids = [r for key in regions for r in by.get(key, [])]
+            if not rids:
+                return
+            px = sec.region_pixels[rids]
+            W[rids, fidx[feature]] += weight * px / px.sum()
+
+        def all_of(st, sd):
+            return [k for k in by if k[0] == st and k[1] == sd]
+
+        for sd in (0, 1):
+            op = 1 - sd
+            put(("dorsal_root", sd, s), [(S["dorsal_root"], sd, s)])
+            put(("ventral_root", sd, s), [(S["ventral_root"], sd, s)])
+            put(("entry", sd, s), [(S["entry_zone"], sd, s)])
+            put(("ventral_horn", sd, s), [(S["ventral_horn"], sd, s)])
+            put(("intermediolateral", sd, s), [(S["intermediolateral"], sd, s)])
+            put(("sacral_parasympathetic", sd, s), [(S["sacral_parasympathetic"], sd, s)])
+            if s + 1 < N_SEG:  # pain fibres of the segment below ascend through this entry zone (Lissauer)
+                put(("lissauer", sd, s + 1), [(S["entry_zone"], sd, s)], 0.5)
+            for j in (s + 1, s + 2):  # ...synapse in the dorsal horn one to two segments up
+                if j < N_SEG:
+                    put(("dorsal_horn", sd, j), [(S["dorsal_horn"], sd, s)], 0.5)
+            if s <= t1:
+                put(("sympathetic", sd, 0), all_of(S["descending_sympathetic"], sd))
+            for j in range(s, 30):
+                put(("dorsal_column", sd, j), [(S["gracilis"], sd, j), (S["cuneatus"], sd, j)])
+                put(("corticospinal", sd, j), [(S["lateral_corticospinal"], sd, j)])
+                if j <= t6:
+                    put(("anterior_corticospinal", sd, j), all_of(S["anterior_corticospinal"], sd))
+            for j in range(s + 1, 30):
+                # crossed fibres of side `sd`'s dermatome j lie in the opposite tract; half have crossed by j-1
+                w = 0.5 if j == s + 1 else 1.0
+                put(("spinothalamic", sd, j), [(S["lateral_spinothalamic"], op, j)], w)
+                put(("anterior_spinothalamic", sd, j), all_of(S["anterior_spinothalamic"], op), w)
+        for j in (s + 1, s + 2):  # crossing in the anterior white commissure one to two segments up
+            if j < N_SEG:
+                put(("commissure", 0, j), [(S["anterior_commissure"], -1, s)], 0.5)
+        out.append(W)
+    return tuple(out)
+
+
+def fibre_losses_per_segment(masks, resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
+    """Fibre-feature losses at each segment: masks is (k, n, n) or (k, 31, n, n) -> (k, 31, features)."""
+    masks = np.asarray(masks)
+    secs = sections(resolution)
+    W = region_to_feature(resolution)
+    k = masks.shape[0]
+    out = np.zeros((k, N_SEG, len(feature_index())), dtype=np.float32)
+    for s, sec in enumerate(secs):
+        m = masks[:, s] if masks.ndim == 4 else masks
+        out[:, s] = sec.fraction_lost(m) @ W[s]
+    return np.clip(out, 0.0, 1.0)
+
+
+def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray) -> np.ndarray:
+    """Combine losses over top..bottom for many candidates at once: 1 - prod(1 - f)."""
+    logs = np.log1p(-np.minimum(per_segment, 1 - 1e-6))
+    cum = np.concatenate([np.zeros_like(logs[:, :1]), np.cumsum(logs, axis=1)], axis=1)
+    total = cum[mask_id, bottom + 1] - cum[mask_id, top]
+    return (-np.expm1(total)).astype(np.float32)
+
+
+# ------------------------------------------------------------------ readout
+
+SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: absent (model convention)
+UMN_THRESHOLD = 0.3  # corticospinal loss that releases reflexes (model convention)
+ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
+
+
+@dataclass(frozen=True)
+class Readout:
+    """Predicted findings for a batch of candidates; every array has the candidates on axis 0.
+
+    sensory: (cand, 5 modalities, 2 sides, 28 dermatomes) loss fraction 0..1
+    motor: (cand, 2, 10) expected MRC grade (float), motor_umn / motor_lmn the two components of the weakness
+    reflexes: {(side, reflex): int index into that reflex's values}
+    signs: {(name, side): int index into that sign's values}
+    diaphragm_loss: (cand,) worst side's diaphragm weakness 0..1
+    """
+
+    sensory: np.ndarray
+    motor: np.ndarray
+    motor_umn: np.ndarray
+    motor_lmn: np.ndarray
+    reflexes: dict
+    signs: dict
+
+
+def _get(L, stage, side, j):
+    return L[:, feature_index()[(stage, side, j)]]
+
+
+def _comb(*losses):
+    keep = np.ones_like(losses[0])
+    for x in losses:
+        keep = keep * (1 - x)
+    return 1 - keep
+
+
+def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
+    """Bedside findings from fibre losses L (cand x features)."""
+    from .findings import PLANTAR, PRESENCE, SIGNS
+
+    a = anatomy()
+    n = L.shape[0]
+    acute = np.broadcast_to(np.asarray(acute, dtype=bool), (n,))
+    g = lambda st, sd, j: _get(L, st, sd, j)  # noqa: E731
+    sens = np.zeros((n, 5, 2, len(a.dermatomes)), dtype=np.float32)
+    for di, d in enumerate(a.dermatomes):
+        segs = a.dermatome_segments[d]
+        for sd in (0, 1):
+            pp = vib = lt = 0.0
+            for j in segs:
+                seg = _comb(g("dorsal_root", sd, j), g("entry", sd, j))
+                dc = g("dorsal_column", sd, j)
+                stt = _comb(g("lissauer", sd, j), g("dorsal_horn", sd, j), g("commissure", 0, j),
+                            g("spinothalamic", sd, j))
+                pp = pp + _comb(seg, stt) / len(segs)
+                vib = vib + _comb(seg, dc) / len(segs)
+                lt = lt + _comb(seg, dc * (0.5 + 0.5 * g("anterior_spinothalamic", sd, j))) / len(segs)
+            sens[:, 0, sd, di] = pp
+            sens[:, 1, sd, di] = pp
+            sens[:, 2, sd, di] = lt
+            sens[:, 3, sd, di] = vib
+            sens[:, 4, sd, di] = vib
+
+    def umn(sd, weights):
+        out = 0.0
+        for j, w in weights.items():
+            cs = g("corticospinal", sd, j)
+            acs = 0.5 * (g("anterior_corticospinal", sd, j) + g("anterior_corticospinal", 1 - sd, j))
+            out = out + w * (0.92 * cs + 0.08 * acs)
+        return out
+
+    def lmn(sd, weights):
+        return sum(w * _comb(g("ventral_horn", sd, j), g("ventral_root", sd, j)) for j, w in weights.items())
+
+    motor = np.zeros((n, 2, len(a.key_myotomes)), dtype=np.float32)
+    mu, ml = np.zeros_like(motor), np.zeros_like(motor)
+    for mi, myo in enumerate(a.key_myotomes):
+        w = a.muscle_weights[myo]
+        for sd in (0, 1):
+            u, lo = umn(sd, w), lmn(sd, w)
+            mu[:, sd, mi], ml[:, sd, mi] = u, lo
+            motor[:, sd, mi] = 5 * (1 - _comb(u, lo))
+
+    def arc_at(sd, j):
+        return _comb(g("dorsal_root", sd, j), g("entry", sd, j), g("ventral_horn", sd, j), g("ventral_root", sd, j))
+
+    def arc(sd, segs):
+        return sum(arc_at(sd, j) for j in segs) / len(segs)
+
+    def released_by(sd, segs):
+        """Corticospinal loss to the arc's segments, counted only where the arc itself still works."""
+        return sum(umn(sd, {j: 1.0}) * (1 - arc_at(sd, j)) for j in segs) / len(segs)
+
+    reflexes = {}
+    for sd, side in enumerate(SIDES):
+        for name, segs in a.reflex_segments.items():
+            if name == "bulbocavernosus":
+                continue
+            ar = arc(sd, segs)
+            released = released_by(sd, segs) >= UMN_THRESHOLD
+            broken = ar >= ARC_ABSENT
+            if name in TENDON_REFLEXES:
+                idx = np.where(broken, 0, np.where(ar >= ARC_REDUCED, 1,
+                                                   np.where(released, np.where(acute, 0, 3), 2)))
+            elif name == "plantar":
+                idx = np.where(broken, PLANTAR.index("mute"),
+                               np.where(released, np.where(acute, PLANTAR.index("mute"), PLANTAR.index("extensor")),
+                                        PLANTAR.index("flexor")))
+            elif name == "hoffmann":
+                idx = np.where(~broken & released & ~acute, PRESENCE.index("present"), PRESENCE.index("absent"))
+            else:  # superficial reflexes vanish with the arc or with a corticospinal lesion above
+                idx = np.where(broken | released, PRESENCE.index("absent"), PRESENCE.index("present"))
+            reflexes[(side, name)] = idx.astype(np.int8)
+
+    sacral = a.reflex_segments["bulbocavernosus"]
+    signs = {}
+    s4 = {a.index("S4"): 0.5, a.index("S5"): 0.5}
+    anal_lmn = a.muscle_weights["external anal sphincter"]
+    vac_kept = np.maximum(*[(1 - umn(sd, s4)) * (1 - lmn(sd, anal_lmn)) for sd in (0, 1)])
+    signs[("voluntary_anal_contraction", "")] = np.where(vac_kept >= 0.5, 0, 1).astype(np.int8)  # (True, False)
+    dap = []
+    for sd in (0, 1):
+        j = a.index("S4")
+        seg = _comb(g("dorsal_root", sd, j), g("entry", sd, j))
+        central = g("dorsal_column", sd, j) * _comb(g("spinothalamic", sd, j), g("commissure", 0, j))
+        dap.append(_comb(seg, central))
+    dap_loss = np.minimum(dap[0], dap[1])
+    signs[("deep_anal_pressure", "")] = np.where(dap_loss < 0.5, 0, 1).astype(np.int8)
+    bc_arc = 0.5 * (arc(0, sacral) + arc(1, sacral))
+    bc_umn = np.minimum(umn(0, {j: 1 / 3 for j in sacral}), umn(1, {j: 1 / 3 for j in sacral}))
+    bc_absent = (bc_arc >= ARC_ABSENT) | (acute & (bc_umn >= 0.5))
+    signs[("bulbocavernosus", "")] = np.where(bc_absent, 1, 0).astype(np.int8)
+    spn = sum(0.5 * _comb(g("sacral_parasympathetic", sd, j), g("ventral_root", sd, j))
+              for sd in (0, 1) for j in range(a.index("S2"), a.index("S4") + 1)) / 3
+    bl_umn = np.minimum(umn(0, {a.index("S3"): 1}), umn(1, {a.index("S3"): 1}))
+    bladder = SIGNS["bladder"]
+    signs[("bladder", "")] = np.where(spn >= 0.5, bladder.index("retention"),
+                                      np.where(bl_umn >= 0.5, np.where(acute, bladder.index("retention"),
+                                                                       bladder.index("urgency")),
+                                               bladder.index("normal"))).astype(np.int8)
+    dia = a.muscle_weights["diaphragm"]
+    dia_loss = np.maximum(*[_comb(umn(sd, dia), lmn(sd, dia)) for sd in (0, 1)])
+    signs[("diaphragm", "")] = np.where(dia_loss >= 0.4, 1, 0).astype(np.int8)
+    t1, t2 = a.index("T1"), a.index("T2")
+    for sd, side in enumerate(SIDES):
+        h = _comb(g("sympathetic", sd, 0), 0.5 * (g("intermediolateral", sd, t1) + g("intermediolateral", sd, t2)),
+                  g("ventral_root", sd, t1))
+        signs[("horner", side)] = np.where(h >= 0.5, 0, 1).astype(np.int8)  # (True, False)
+    return Readout(sens, motor, mu, ml, reflexes, signs)

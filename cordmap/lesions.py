@@ -1,0 +1,283 @@
+"""Lesions: a cross-sectional mask times a rostrocaudal extent.
+
+Named patterns draw their mask in the normalised section coordinates of `cordmap.model` (unit-circle cord,
+x > 0 the patient's right, y > 0 dorsal), so one pattern serves every level. ``side`` is the side of the damaged
+half of the cord (or the root). Researchers can pass their own mask: `Lesion.custom`.
+"""
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .anatomy import anatomy
+from .errors import CordmapError, bad_value
+from .model import S, Section, dorsal_horn_axis
+
+SIDE_VALUES = ("left", "right", "both")
+
+
+@dataclass(frozen=True)
+class Param:
+    name: str
+    default: float
+    grid: tuple[float, ...]  # values the ranker's atlas tries
+    low: float
+    high: float
+    doc: str
+
+
+@dataclass(frozen=True)
+class Pattern:
+    id: str
+    summary: str
+    sides: tuple[str, ...]
+    draw: Callable[..., np.ndarray]  # (section, xs, params) -> bool mask; xs = x mirrored so the damaged side is > 0
+    params: tuple[Param, ...] = ()
+    tops: tuple[str, str] = ("C1", "S5")  # range of allowed rostral segments
+    bottom_fixed: str | None = None  # the caudal segment when the pattern fixes it
+    max_extent: int = 30  # segments
+    single: bool = False  # exactly one segment
+
+
+def _cord(sec):
+    return np.hypot(sec.x, sec.y) <= 1.0
+
+
+def _roots(sec):
+    return (sec.structure == S["dorsal_root"]) | (sec.structure == S["ventral_root"])
+
+
+def _dorsal_columns(sec):
+    return _cord(sec) & (sec.y > 0.04) & (np.abs(sec.x) < dorsal_horn_axis(sec.y))
+
+
+def _half(xs, side):
+    return np.ones_like(xs, dtype=bool) if side == "both" else xs >= 0
+
+
+def _complete(sec, xs, side, p):
+    return _cord(sec)
+
+
+def _hemisection(sec, xs, side, p):
+    return _cord(sec) & (xs > 0)
+
+
+def _central(sec, xs, side, p):
+    r = p["size"]
+    return _cord(sec) & ((sec.x / (1.25 * r)) ** 2 + ((sec.y + 0.07) / (0.9 * r)) ** 2 <= 1)
+
+
+def _anterior(sec, xs, side, p):
+    # anterior spinal artery territory: the ventral two-thirds, sparing the dorsal columns (and the dorsal horns)
+    return _cord(sec) & (sec.y < p["reach"]) & ~_dorsal_columns(sec)
+
+
+def _posterior(sec, xs, side, p):
+    m = _dorsal_columns(sec)
+    if p["horns"] >= 0.5:
+        m = m | (_cord(sec) & (sec.y > 0.1) & (np.abs(sec.x) < dorsal_horn_axis(sec.y) + 0.13))
+    return m
+
+
+def _posterolateral(sec, xs, side, p):
+    phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
+    lateral = _cord(sec) & (phi >= -2) & (phi < 64) & (np.hypot(sec.x, sec.y) > 0.45)
+    return _dorsal_columns(sec) | lateral
+
+
+def _lateral_compression(sec, xs, side, p):
+    return (_cord(sec) & (xs >= 1 - 2 * p["depth"])) | (_roots(sec) & (xs > 0))
+
+
+def _anterior_compression(sec, xs, side, p):
+    return (_cord(sec) & (sec.y <= -1 + 2 * p["depth"])) | (sec.structure == S["ventral_root"])
+
+
+def _posterior_compression(sec, xs, side, p):
+    return (_cord(sec) & (sec.y >= 1 - 2 * p["depth"])) | (sec.structure == S["dorsal_root"])
+
+
+def _anterior_horn(sec, xs, side, p):
+    return (sec.structure == S["ventral_horn"]) & _half(xs, side)
+
+
+def _motor_neuron(sec, xs, side, p):
+    st = sec.structure
+    return (st == S["ventral_horn"]) | (st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])
+
+
+def _conus(sec, xs, side, p):
+    return _cord(sec) | _roots(sec)
+
+
+def _root_part(sec, xs, fraction):
+    """The outer `fraction` of each root (by distance from the cord), so a partial lesion spares the rest."""
+    r = np.hypot(sec.x, sec.y)
+    roots = _roots(sec)
+    if fraction >= 1:
+        return roots
+    if fraction <= 0:
+        return np.zeros_like(roots)
+    cut = np.quantile(r[roots], 1 - fraction)
+    return roots & (r >= cut)
+
+
+def _cauda_equina(sec, xs, side, p):
+    return _root_part(sec, xs, 1.0) & (xs > 0) | _root_part(sec, xs, p["contra"]) & (xs < 0)
+
+
+def _root(sec, xs, side, p):
+    return _root_part(sec, xs, p["severity"]) & (xs > 0)
+
+
+_DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,
+               "how far the compression reaches, as a fraction of the cord's width (0.5 = half the cord)")
+
+PATTERNS: dict[str, Pattern] = {p.id: p for p in (
+    Pattern("complete", "the whole cross-section at every segment of the extent (transection, complete myelitis)",
+            ("both",), _complete),
+    Pattern("hemisection", "one half of the cord (Brown-Sequard syndrome)", ("left", "right"), _hemisection),
+    Pattern("central", "around the central canal, growing outward with size (syrinx, central cord injury)",
+            ("both",), _central,
+            (Param("size", 0.3, (0.15, 0.22, 0.3, 0.4, 0.5, 0.6), 0.05, 0.9,
+                   "radius of the damaged zone as a fraction of the cord's radius"),)),
+    Pattern("anterior", "the anterior spinal artery territory: ventral two-thirds, dorsal columns spared",
+            ("both",), _anterior,
+            (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),)),
+    Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
+            ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),)),
+    Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
+            ("both",), _posterolateral),
+    Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",
+            ("left", "right"), _lateral_compression, (_DEPTH,)),
+    Pattern("anterior_compression", "extrinsic pressure from the front (disc, vertebral body), with depth",
+            ("both",), _anterior_compression, (_DEPTH,)),
+    Pattern("posterior_compression", "extrinsic pressure from behind (ligament, lamina, epidural mass), with depth",
+            ("both",), _posterior_compression, (_DEPTH,)),
+    Pattern("anterior_horn", "the ventral horn motor neurons alone (pure lower motor neuron)",
+            ("left", "right", "both"), _anterior_horn),
+    Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
+            ("both",), _motor_neuron),
+    Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, tops=("L5", "S4"),
+            bottom_fixed="Co1"),
+    Pattern("cauda_equina", "the lumbosacral roots below the conus, worse on one side", ("left", "right"),
+            _cauda_equina,
+            (Param("contra", 0.5, (0.0, 0.5, 1.0), 0.0, 1.0, "share of the other side's roots involved"),),
+            tops=("L1", "S3"), bottom_fixed="Co1"),
+    Pattern("root", "one dorsal and ventral root (radiculopathy)", ("left", "right"), _root,
+            (Param("severity", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
+            tops=("C2", "S5"), single=True),
+)}
+
+CUSTOM = "custom"
+
+
+@dataclass(frozen=True)
+class Lesion:
+    """A lesion: pattern, side, most rostral (`top`) and most caudal (`bottom`) cord segment, parameters, phase.
+
+    ``Lesion("hemisection", "left", "T6")`` is one segment; give ``bottom`` for a longer one.
+    """
+
+    pattern: str
+    side: str = "both"
+    top: str = "T6"
+    bottom: str | None = None
+    params: tuple[tuple[str, float], ...] = ()
+    phase: str = "chronic"
+    mask: np.ndarray | None = field(default=None, compare=False, repr=False)
+
+    def __post_init__(self):
+        a = anatomy()
+        if isinstance(self.params, dict):
+            object.__setattr__(self, "params", tuple(sorted(self.params.items())))
+        if self.pattern == CUSTOM:
+            if self.mask is None:
+                raise CordmapError("pattern 'custom' needs a mask (see Lesion.custom)")
+        elif self.pattern not in PATTERNS:
+            raise bad_value("pattern", self.pattern, [*PATTERNS], "pattern")
+        pat = PATTERNS.get(self.pattern)
+        sides = pat.sides if pat else SIDE_VALUES
+        if self.side not in sides:
+            if self.side not in SIDE_VALUES:
+                raise bad_value("side", self.side, sides, "side")
+            raise CordmapError(f"side: {self.side!r} does not apply to pattern {self.pattern!r}; "
+                               f"allowed {', '.join(sides)}")
+        top = a.index(self.top, "top")
+        bottom_name = self.bottom or (pat.bottom_fixed if pat and pat.bottom_fixed else self.top)
+        object.__setattr__(self, "bottom", bottom_name)
+        bottom = a.index(bottom_name, "bottom")
+        if bottom < top:
+            raise CordmapError(f"bottom: {bottom_name} lies rostral to top {self.top}; top is the most rostral segment")
+        if pat:
+            lo, hi = a.index(pat.tops[0]), a.index(pat.tops[1])
+            if not lo <= top <= hi:
+                raise CordmapError(f"top: {self.top} is outside {pat.tops[0]}..{pat.tops[1]} for pattern "
+                                   f"{self.pattern!r}")
+            if pat.single and bottom != top:
+                raise CordmapError(f"bottom: pattern {self.pattern!r} covers one segment; give bottom = top")
+            if pat.bottom_fixed and bottom_name != pat.bottom_fixed:
+                raise CordmapError(f"bottom: pattern {self.pattern!r} always ends at {pat.bottom_fixed}")
+            names = [p.name for p in pat.params]
+            for name, value in self.params:
+                if name not in names:
+                    raise bad_value("param", name, names or ["(none)"], f"parameter of {self.pattern!r}")
+                spec = pat.params[names.index(name)]
+                if not isinstance(value, (int, float)) or not spec.low <= value <= spec.high:
+                    raise CordmapError(f"param {name}: {value!r} is outside {spec.low}..{spec.high}")
+        if self.phase not in ("chronic", "acute"):
+            raise bad_value("phase", self.phase, ("chronic", "acute"), "phase")
+
+    @classmethod
+    def custom(cls, mask: np.ndarray, top: str, bottom: str | None = None, phase: str = "chronic") -> Lesion:
+        """A researcher's own mask: a boolean (n, n) raster on the section grid, or (31, n, n) per segment."""
+        mask = np.asarray(mask, dtype=bool)
+        if mask.ndim not in (2, 3):
+            raise CordmapError(f"mask: expected a 2-D (n, n) or 3-D (31, n, n) array, got shape {mask.shape}")
+        return cls(CUSTOM, "both", top, bottom, (), phase, mask)
+
+    def param(self, name: str) -> float:
+        for k, v in self.params:
+            if k == name:
+                return v
+        return next(p.default for p in PATTERNS[self.pattern].params if p.name == name)
+
+    def all_params(self) -> dict[str, float]:
+        if self.pattern == CUSTOM:
+            return {}
+        return {p.name: self.param(p.name) for p in PATTERNS[self.pattern].params}
+
+    @property
+    def top_index(self) -> int:
+        return anatomy().index(self.top)
+
+    @property
+    def bottom_index(self) -> int:
+        return anatomy().index(self.bottom)
+
+    def describe(self) -> str:
+        p = ", ".join(f"{k} {v:g}" for k, v in self.all_params().items())
+        where = self.top if self.top == self.bottom else f"{self.top}-{self.bottom}"
+        side = "" if self.side == "both" else f"{self.side} "
+        return f"{side}{self.pattern.replace('_', ' ')} {where}" + (f" ({p})" if p else "")
+
+
+def draw_mask(pattern: str, side: str, params: dict, sec: Section) -> np.ndarray:
+    """The boolean mask of a named pattern on one section."""
+    xs = sec.x if side != "left" else -sec.x
+    return PATTERNS[pattern].draw(sec, xs, side, params)
+
+
+def lesion_masks(lesion: Lesion, secs) -> np.ndarray:
+    """(31, n, n) masks of a lesion on every section (zero outside its extent does not matter: extent selects)."""
+    if lesion.pattern == CUSTOM:
+        m = lesion.mask
+        n = secs[0].x.shape[0]
+        if m.shape[-2:] != (n, n):
+            raise CordmapError(f"mask: shape {m.shape} does not match the section grid ({n}, {n})")
+        return np.broadcast_to(m, (len(secs), n, n)) if m.ndim == 2 else m
+    params = lesion.all_params()
+    return np.stack([draw_mask(lesion.pattern, lesion.side, params, sec) for sec in secs])
