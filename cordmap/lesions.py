@@ -142,7 +142,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("hemisection", "one half of the cord (Brown-Sequard syndrome)", ("left", "right"), _hemisection),
     Pattern("central", "around the central canal, growing outward with size (syrinx, central cord injury)",
             ("both",), _central,
-            (Param("size", 0.3, (0.15, 0.22, 0.3, 0.4, 0.5, 0.6), 0.05, 0.9,
+            (Param("size", 0.3, (0.15, 0.22, 0.3, 0.4, 0.5, 0.6, 0.7), 0.05, 0.9,
                    "radius of the damaged zone as a fraction of the cord's radius"),)),
     Pattern("anterior", "the anterior spinal artery territory: ventral two-thirds, dorsal columns spared",
             ("both",), _anterior,

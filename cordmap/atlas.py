@@ -1,0 +1,178 @@
+"""The candidate atlas: every lesion the ranker considers, with its predicted findings as log-probabilities.
+
+Candidates: every pattern, each side it allows, every parameter value of its grid, every allowed rostral
+segment and every extent the pattern allows. Their fibre losses come from `cordmap.forward` for all candidates at
+once (one set of masks per pattern variant; cumulative sums give every extent), and the observation model
+(`cordmap.observation`) turns predictions into log P(recorded value | candidate) for every item of the exam.
+
+Storage: ``logp`` is (columns x candidates) float32, one column per (item, value), so the log-likelihood of an exam
+is the sum of the rows of the recorded values: a gather and a reduction. Built once per phase and cached in
+memory, and on disk (``~/.cache/cordmap`` or ``$CORDMAP_CACHE``) keyed by the model's version.
+"""
+from __future__ import annotations
+
+import hashlib
+import itertools
+import os
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from . import observation
+from .anatomy import anatomy
+from .findings import all_items, item_values
+from .forward import along_extent, fibre_losses_per_segment, readout
+from .lesions import PATTERNS, Lesion, draw_mask
+from .model import DEFAULT_RESOLUTION, sections
+
+
+@dataclass(frozen=True)
+class Variant:
+    pattern: str
+    side: str
+    params: tuple[tuple[str, float], ...]
+
+
+@dataclass(frozen=True)
+class Atlas:
+    phase: str
+    variants: tuple[Variant, ...]
+    variant: np.ndarray  # (n,) variant id of each candidate
+    top: np.ndarray  # (n,) segment index
+    bottom: np.ndarray  # (n,)
+    area: np.ndarray  # (n,) share of the cord section inside the mask (mean over the extent)
+    items: tuple[tuple, ...]
+    offsets: np.ndarray  # (items + 1,) first column of each item
+    logp: np.ndarray  # (columns, n) float32
+
+    def __len__(self):
+        return len(self.top)
+
+    def lesion(self, i: int) -> Lesion:
+        v = self.variants[int(self.variant[i])]
+        segs = anatomy().segments
+        return Lesion(v.pattern, v.side, segs[int(self.top[i])], segs[int(self.bottom[i])], v.params, self.phase)
+
+    @property
+    def item_index(self) -> dict[tuple, int]:
+        return _item_index(self.items)
+
+    def column(self, item: tuple, value) -> int:
+        i = self.item_index[item]
+        return int(self.offsets[i]) + item_values(item).index(value)
+
+    def probs(self, item: tuple, cand: np.ndarray) -> np.ndarray:
+        """P(value | candidate) for one item: (len(cand), n_values)."""
+        i = self.item_index[item]
+        return np.exp(self.logp[self.offsets[i]:self.offsets[i + 1]][:, cand].T)
+
+
+@cache
+def _item_index(items):
+    return {k: i for i, k in enumerate(items)}
+
+
+def variants() -> tuple[Variant, ...]:
+    out = []
+    for pat in PATTERNS.values():
+        grids = [[(p.name, v) for v in p.grid] for p in pat.params]
+        for side in pat.sides:
+            for combo in itertools.product(*grids):
+                out.append(Variant(pat.id, side, tuple(combo)))
+    return tuple(out)
+
+
+def enumerate_candidates(vs: tuple[Variant, ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    a = anatomy()
+    var, top, bottom = [], [], []
+    for vi, v in enumerate(vs):
+        pat = PATTERNS[v.pattern]
+        lo, hi = a.index(pat.tops[0]), a.index(pat.tops[1])
+        for t in range(lo, hi + 1):
+            if pat.bottom_fixed:
+                bots = [a.index(pat.bottom_fixed)]
+            elif pat.single:
+                bots = [t]
+            else:
+                bots = range(t, min(t + pat.max_extent, 30))
+            for b in bots:
+                var.append(vi)
+                top.append(t)
+                bottom.append(b)
+    return np.array(var, np.int32), np.array(top, np.int16), np.array(bottom, np.int16)
+
+
+def model_version() -> str:
+    """A hash of the anatomy tables and the model's code: the disk cache key."""
+    h = hashlib.sha256()
+    for name in sorted(p.name for p in resources.files("cordmap.data").iterdir() if p.name.endswith(".csv")):
+        h.update(resources.files("cordmap.data").joinpath(name).read_bytes())
+    here = Path(__file__).parent
+    for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py"):
+        h.update((here / mod).read_bytes())
+    return h.hexdigest()[:16]
+
+
+def _cache_path(phase: str) -> Path:
+    root = Path(os.environ.get("CORDMAP_CACHE", Path.home() / ".cache" / "cordmap"))
+    return root / f"atlas-{model_version()}-{phase}.npz"
+
+
+def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 4096) -> Atlas:
+    """Compute the atlas from the model (no cache)."""
+    vs = variants()
+    secs = sections(resolution)
+    masks = np.stack([np.stack([draw_mask(v.pattern, v.side, dict(v.params), sec) for sec in secs]) for v in vs])
+    per_seg = fibre_losses_per_segment(masks, resolution)
+    cord = np.hypot(secs[0].x, secs[0].y) <= 1.0
+    area_seg = (masks & cord).sum(axis=(2, 3)) / cord.sum()  # (variants, 31)
+    var, top, bottom = enumerate_candidates(vs)
+    cum = np.concatenate([np.zeros((len(vs), 1)), np.cumsum(area_seg, axis=1)], axis=1)
+    area = ((cum[var, bottom + 1] - cum[var, top]) / (bottom - top + 1)).astype(np.float32)
+    items = all_items()
+    offsets = np.concatenate([[0], np.cumsum([len(item_values(k)) for k in items])]).astype(np.int32)
+    logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
+    for start in range(0, len(var), chunk):
+        sl = slice(start, start + chunk)
+        L = along_extent(per_seg, var[sl], top[sl], bottom[sl])
+        r = readout(L, phase == "acute")
+        logp[:, sl] = observation.log_probabilities(r, items, offsets).T
+    return Atlas(phase, vs, var, top, bottom, area, items, offsets, logp)
+
+
+_MEMORY: dict[str, Atlas] = {}
+
+
+def get(phase: str = "chronic", disk: bool = True) -> Atlas:
+    """The atlas for one phase: from memory, else from the disk cache, else built (and saved)."""
+    if phase in _MEMORY:
+        return _MEMORY[phase]
+    path = _cache_path(phase)
+    atlas = None
+    if disk and path.exists():
+        try:
+            atlas = _load(path, phase)
+        except (OSError, ValueError, KeyError):
+            atlas = None
+    if atlas is None:
+        atlas = build(phase)
+        if disk:
+            try:
+                path.parent.mkdir(parents=True, exist_ok=True)
+                tmp = path.with_suffix(".tmp.npz")
+                np.savez(tmp, variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
+                         offsets=atlas.offsets, logp=atlas.logp)
+                tmp.replace(path)
+            except OSError:
+                pass
+    _MEMORY[phase] = atlas
+    return atlas
+
+
+def _load(path: Path, phase: str) -> Atlas:
+    with np.load(path) as z:
+        return Atlas(phase, variants(), z["variant"], z["top"], z["bottom"], z["area"], all_items(), z["offsets"],
+                     z["logp"])

@@ -1,0 +1,378 @@
+"""Rank lesion hypotheses against bedside findings.
+
+log-likelihood of a candidate = sum over the *examined* items of log P(recorded value | candidate) from the atlas
+(items not examined contribute nothing: not examined is never taken as normal); posterior = softmax(loglik +
+log prior). The prior is uniform up to a mild preference for smaller lesions (`size_prior`), replaceable by the
+caller.
+"""
+from __future__ import annotations
+
+import json
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from . import atlas as atlas_mod
+from . import cautions as C
+from .anatomy import MODALITIES, SIDES, anatomy
+from .findings import Findings, item_label, item_values, parse
+from .lesions import Lesion
+from .simulate import simulate
+
+FORMAT = "cordmap-ranking/1"
+# Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
+# findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
+# corrupted still fit (see tests/test_rank.py) while two-lesion pictures do not.
+POOR_FIT_Z = 4.0
+POOR_FIT_NATS = 8.0
+NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
+
+
+def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
+    """Log prior: uniform, with a mild preference for shorter and smaller lesions (at most ~1.5 nats apart)."""
+    extent = (at.bottom - at.top + 1).astype(np.float32)
+    return -0.04 * extent - 0.5 * at.area
+
+
+@dataclass(frozen=True)
+class Hypothesis:
+    rank: int
+    lesion: Lesion
+    probability: float
+    log_likelihood: float
+    vertebral_levels: tuple[str, ...]
+    explains: tuple[str, ...]
+    conflicts: tuple[str, ...]
+    summary: str
+
+    def predicted(self) -> Findings:
+        return simulate(self.lesion)
+
+    def to_dict(self) -> dict:
+        lz = self.lesion
+        return {"rank": self.rank, "pattern": lz.pattern, "side": lz.side, "top": lz.top, "bottom": lz.bottom,
+                "params": lz.all_params(), "probability": round(self.probability, 4),
+                "log_likelihood": round(self.log_likelihood, 3), "vertebral_levels": list(self.vertebral_levels),
+                "explains": list(self.explains), "conflicts": list(self.conflicts)}
+
+
+@dataclass(frozen=True)
+class NextTest:
+    item: tuple
+    finding: str
+    why: str
+    gain: float
+
+
+@dataclass(frozen=True)
+class Ranking:
+    hypotheses: tuple[Hypothesis, ...]
+    fit: str
+    advice: str
+    next_tests: tuple[NextTest, ...]
+    cautions: tuple[str, ...]
+    pattern_marginals: dict = field(default_factory=dict)
+    level_marginals: dict = field(default_factory=dict)
+    examined: int = 0
+    classification: object | None = None
+
+    @property
+    def best(self) -> Hypothesis:
+        return self.hypotheses[0]
+
+    @property
+    def table(self) -> pd.DataFrame:
+        rows = [{**h.to_dict(), "params": json.dumps(h.lesion.all_params()),
+                 "vertebral_levels": " ".join(h.vertebral_levels), "explains": "; ".join(h.explains),
+                 "conflicts": "; ".join(h.conflicts)} for h in self.hypotheses]
+        return pd.DataFrame(rows)
+
+    def to_dict(self) -> dict:
+        d = {"format": FORMAT, "hypotheses": [h.to_dict() for h in self.hypotheses], "fit": self.fit,
+             "next_tests": [{"finding": t.finding, "why": t.why} for t in self.next_tests],
+             "cautions": list(self.cautions),
+             "marginals": {"pattern": {k: round(v, 4) for k, v in self.pattern_marginals.items()},
+                           "top": {k: round(v, 4) for k, v in self.level_marginals.items()}}}
+        if self.fit == "poor":
+            d["advice"] = self.advice
+        if self.classification is not None:
+            d["classification"] = self.classification.to_dict()
+        return d
+
+    def to_json(self, indent: int | None = 2) -> str:
+        return json.dumps(self.to_dict(), indent=indent)
+
+
+# ------------------------------------------------------------------ scoring
+
+def observed_columns(f: Findings, at: atlas_mod.Atlas) -> tuple[np.ndarray, list[tuple]]:
+    """Atlas rows of the recorded values (NT and unknown items skipped) and the items they belong to."""
+    cols, items = [], []
+    index = at.item_index
+    for key, value in f.items.items():
+        if value == "NT" or key not in index:
+            continue
+        cols.append(int(at.offsets[index[key]]) + item_values(key).index(value))
+        items.append(key)
+    return np.array(cols, dtype=np.int64), items
+
+
+def log_likelihood(f: Findings, at: atlas_mod.Atlas) -> np.ndarray:
+    cols, _ = observed_columns(f, at)
+    if len(cols) == 0:
+        return np.zeros(len(at), dtype=np.float32)
+    return at.logp[cols].sum(axis=0, dtype=np.float32)
+
+
+def _softmax(x: np.ndarray) -> np.ndarray:
+    e = np.exp(x - x.max())
+    return e / e.sum()
+
+
+def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple]) -> tuple[float, float]:
+    """Expected log-likelihood of candidate i on its own simulated findings over `items`, and its variance."""
+    mean = var = 0.0
+    index = at.item_index
+    for key in items:
+        k = index[key]
+        lp = at.logp[at.offsets[k]:at.offsets[k + 1], i].astype(np.float64)
+        p = np.exp(lp)
+        m = float((p * lp).sum())
+        mean += m
+        var += float((p * (lp - m) ** 2).sum())
+    return mean, var
+
+
+
+
+def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray] | None = None,
+         next_tests: int = 5, classify: bool = True) -> Ranking:
+    """Rank every candidate of the atlas against `findings` (a Findings, dict, JSON string or path)."""
+    f = parse(findings)
+    at = atlas_mod.get(f.phase)
+    cols, items = observed_columns(f, at)
+    ll = at.logp[cols].sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
+    lp = ll + (prior or size_prior)(at)
+    post = _softmax(lp.astype(np.float64))
+    order = np.argsort(-lp, kind="stable")
+    best = order[: max(top, 1)]
+    fit, advice = "good", ""
+    if items:
+        mean, var = _self_fit(at, int(best[0]), items)
+        gap = mean - float(ll[best[0]])
+        if gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9)):
+            fit = "poor"
+            advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
+                      "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
+    hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f) for r, i in enumerate(best))
+    pm: dict[str, float] = {}
+    lm: dict[str, float] = {}
+    segs = anatomy().segments
+    pat_of = np.array([v.pattern for v in at.variants])[at.variant]
+    for name in dict.fromkeys(pat_of):
+        pm[name] = float(post[pat_of == name].sum())
+    tops = np.bincount(at.top, weights=post, minlength=30)
+    lm = {segs[i]: float(tops[i]) for i in range(30) if tops[i] > 1e-4}
+    pm = dict(sorted(pm.items(), key=lambda kv: -kv[1]))
+    tests = suggest_tests(f, at, post, order, next_tests) if next_tests else ()
+    cls = None
+    if classify:
+        try:
+            from .classify import classify as _classify
+
+            cls = _classify(f)
+        except ImportError:
+            cls = None
+    return Ranking(hyps, fit, advice, tests, ranking_cautions(at, post, f, hyps), pm, lm, len(items), cls)
+
+
+# ------------------------------------------------------------------ hypotheses in words
+
+def vertebral_levels(lesion: Lesion) -> tuple[str, ...]:
+    """Vertebral bodies to image for a lesion (adult segment-to-vertebra table)."""
+    a = anatomy()
+    t, b = lesion.top_index, lesion.bottom_index
+    if lesion.pattern == "root":
+        seg = lesion.top
+        region, n = seg[0], int(seg[1:])
+        if region == "C":  # cervical root n leaves above vertebra n (C8 between C7 and T1)
+            return (f"C{n - 1}-C{n}",) if n <= 7 else ("C7-T1",)
+        if region == "T":
+            return (f"T{n}-T{n + 1}",) if n < 12 else ("T12-L1",)
+        if region == "L":  # lumbar root n leaves below vertebra n; a disc one level higher can catch it in the canal
+            below = f"L{n}-L{n + 1}" if n < 5 else "L5-S1"
+            return (f"L{n - 1}-L{n}" if n > 1 else "T12-L1", below)
+        return ("L5-S1", "sacrum")
+    if lesion.pattern == "cauda_equina":
+        return ("L1", "L2", "L3", "L4", "L5", "S1")
+    if lesion.pattern in ("lateral_compression", "anterior_compression", "posterior_compression"):
+        t = max(0, t - 3)  # an extrinsic lesion can sit several segments above the sensory level it produces
+    out = []
+    for s in range(t, b + 1):
+        v = a.vertebra(a.segments[s])
+        if v not in out:
+            out.append(v)
+    if lesion.pattern == "conus" and "L2" not in out:
+        out.append("L2")
+    return tuple(out)
+
+
+def _ranges(derms: list[str]) -> str:
+    a = anatomy().dermatomes
+    idx = sorted(a.index(d) for d in derms)
+    parts, start = [], idx[0]
+    for p, q in zip(idx, idx[1:] + [None]):
+        if q is None or q != p + 1:
+            parts.append(a[start] if start == p else f"{a[start]}-{a[p]}")
+            start = q
+    return ", ".join(parts)
+
+
+def _grade_word(key, value) -> str:
+    if key[0] == "sensory":
+        return ("absent", "impaired", "normal")[value]
+    if key[0] == "motor":
+        return f"grade {value}"
+    if key[0] == "sign" and isinstance(value, bool):
+        return "present" if value else "absent"
+    return str(value)
+
+
+def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> list[str]:
+    """Plain-words lines for (key, entered, predicted) triples, sensory items grouped into dermatome ranges."""
+    out = []
+    groups: dict[tuple, list[str]] = {}
+    for key, entered, pred in items:
+        if key[0] == "sensory":
+            groups.setdefault((key[1], key[2], entered, pred), []).append(key[3])
+    for (mod, side, e, p), derms in groups.items():
+        words = f"{side} {mod.replace('_', ' ')} {_grade_word(('sensory',), e)} {_ranges(derms)}"
+        out.append(f"{words} (predicted {_grade_word(('sensory',), p)})" if conflicts else words)
+    for key, entered, pred in items:
+        if key[0] == "sensory":
+            continue
+        words = f"{item_label(key)}: {_grade_word(key, entered)}"
+        out.append(f"{words} (predicted {_grade_word(key, pred)})" if conflicts else words)
+    return out
+
+
+def _predicted_value(at, i, key):
+    p = at.probs(key, np.array([i]))[0]
+    return item_values(key)[int(p.argmax())], p
+
+
+def _hypothesis(rank_no, at, i, prob, ll, f: Findings) -> Hypothesis:
+    lesion = at.lesion(i)
+    agree, conflict = [], []
+    for key, value in f.items.items():
+        if value == "NT" or key not in at.item_index:
+            continue
+        pv, p = _predicted_value(at, i, key)
+        pe = p[item_values(key).index(value)]
+        if pe < 0.2:
+            conflict.append((key, value, pv))
+        elif pv == value and _abnormal(key, value):
+            agree.append((key, value, pv))
+    explains = _describe(agree, conflicts=False)
+    conflicts = _describe(conflict, conflicts=True)
+    summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
+    summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
+    return Hypothesis(rank_no, lesion, prob, ll, vertebral_levels(lesion), tuple(explains[:12]),
+                      tuple(conflicts[:12]), summary)
+
+
+def _abnormal(key, value) -> bool:
+    if key[0] == "sensory":
+        return value != 2
+    if key[0] == "motor":
+        return value != 5
+    if key[0] == "reflex":
+        return value not in ("normal", "present", "flexor") or (key[2] == "hoffmann" and value == "present")
+    if key[1] == "horner":
+        return bool(value)
+    return value not in (True, "present", "normal")
+
+
+# ------------------------------------------------------------------ next best test
+
+def suggest_tests(f: Findings, at, post, order, n: int = 5) -> tuple[NextTest, ...]:
+    """The unexamined items whose result would most reduce uncertainty among the leading candidates."""
+    pool = order[:NEXT_TEST_POOL]
+    w = post[pool] / post[pool].sum()
+    candidates = [k for k in at.items if k not in f.items]
+    if not candidates:
+        return ()
+    gains = []
+    for key in candidates:
+        k = at.item_index[key]
+        p = np.exp(at.logp[at.offsets[k]:at.offsets[k + 1]][:, pool].astype(np.float64))  # (values, pool)
+        pv = p @ w
+        mi = float((w * (p * (np.log(p) - np.log(pv)[:, None]))).sum())
+        gains.append(mi)
+    gains = np.array(gains)
+    best = np.argsort(-gains)[:n]
+    out = []
+    for b in best:
+        if gains[b] <= 1e-4:
+            break
+        key = candidates[b]
+        out.append(NextTest(key, item_label(key), _why(key, at, pool, w), round(float(gains[b]), 4)))
+    return tuple(out)
+
+
+def _why(key, at, pool, w) -> str:
+    """One line: which two leading hypotheses this test separates, and what each expects."""
+    k = at.item_index[key]
+    p = np.exp(at.logp[at.offsets[k]:at.offsets[k + 1]][:, pool])
+    expect = p.argmax(axis=0)
+    first = 0
+    for j in range(1, len(pool)):
+        if expect[j] != expect[first] and w[j] > 1e-6:
+            vals = item_values(key)
+            a_ = at.lesion(int(pool[first])).describe()
+            b_ = at.lesion(int(pool[j])).describe()
+            return (f"{item_label(key)} separates {a_} (expects {_grade_word(key, vals[expect[first]])}) "
+                    f"from {b_} (expects {_grade_word(key, vals[expect[j]])})")
+    return f"{item_label(key)} narrows the leading hypotheses"
+
+
+# ------------------------------------------------------------------ cautions
+
+def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
+    out = []
+    pat = np.array([v.pattern for v in at.variants])[at.variant]
+    compressive = np.isin(pat, ["lateral_compression", "anterior_compression", "posterior_compression",
+                                "cauda_equina", "conus"])
+    weak = any(v != "NT" and v < 4 for k, v in f.items.items() if k[0] == "motor")
+    if post[compressive].sum() > 0.1 or f.phase == "acute" or weak:
+        out.append(C.EMERGENCY)
+    if post[at.top <= anatomy().index("C5")].sum() > 0.05 or f.items.get(("sign", "diaphragm", "")) == "weak":
+        out.append(C.BREATHING)
+    if post[at.top <= anatomy().index("T6")].sum() > 0.05:
+        out.append(C.DYSREFLEXIA)
+    out.append(C.DECISION_SUPPORT)
+    return tuple(out)
+
+
+# ------------------------------------------------------------------ batch (many exams at once)
+
+def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
+    """(exams, candidates) log posterior (unnormalised) for many exams with one matrix product."""
+    onehot = np.zeros((len(exams), at.logp.shape[0]), dtype=np.float32)
+    for e, f in enumerate(exams):
+        cols, _ = observed_columns(f, at)
+        onehot[e, cols] = 1.0
+    return onehot @ at.logp + size_prior(at)[None, :]
+
+
+def sensory_summary(f: Findings) -> str:
+    """'left pinprick absent T10-S4-5' style line of the abnormal sensory entries (for reports)."""
+    parts = []
+    for mod in MODALITIES:
+        for side in SIDES:
+            ab = [k[3] for k, v in f.items.items() if k[:3] == ("sensory", mod, side) and v != 2]
+            if ab:
+                parts.append(f"{side} {mod.replace('_', ' ')} {_ranges(ab)}")
+    return "; ".join(parts)
