@@ -63,14 +63,14 @@ def region_to_feature(resolution: int = DEFAULT_RESOLUTION) -> tuple[np.ndarray,
         W = np.zeros((len(sec.regions), len(fidx)), dtype=np.float32)
         by = _region_lookup(sec)
 
-        def put(feature, regions, weight=1.0):
+        def put(feature, regions, weight=1.0, W=W, by=by, sec=sec):
             rids = [r for key in regions for r in by.get(key, [])]
             if not rids:
                 return
             px = sec.region_pixels[rids]
             W[rids, fidx[feature]] += weight * px / px.sum()
 
-        def all_of(st, sd):
+        def all_of(st, sd, by=by):
             return [k for k in by if k[0] == st and k[1] == sd]
 
         for sd in (0, 1):
