@@ -113,10 +113,10 @@ def _conus(sec, xs, side, p):
     return _cord(sec) | _roots(sec)
 
 
-def _root_part(sec, xs, fraction):
-    """The outer `fraction` of each root (by distance from the cord), so a partial lesion spares the rest."""
+def _root_part(sec, sel, fraction):
+    """The outer `fraction` of the roots in `sel` (by distance from the cord), so a partial lesion spares the rest."""
     r = np.hypot(sec.x, sec.y)
-    roots = _roots(sec)
+    roots = _roots(sec) & sel
     if fraction >= 1:
         return roots
     if fraction <= 0:
@@ -126,11 +126,11 @@ def _root_part(sec, xs, fraction):
 
 
 def _cauda_equina(sec, xs, side, p):
-    return _root_part(sec, xs, 1.0) & (xs > 0) | _root_part(sec, xs, p["contra"]) & (xs < 0)
+    return _root_part(sec, xs > 0, 1.0) | _root_part(sec, xs < 0, p["contra"])
 
 
 def _root(sec, xs, side, p):
-    return _root_part(sec, xs, p["severity"]) & (xs > 0)
+    return _root_part(sec, xs > 0, p["severity"])
 
 
 _DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,

@@ -131,7 +131,8 @@ def dorsal_horn_axis(y):
 def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
     a = anatomy()
     n = resolution
-    c = (np.arange(n) + 0.5) / n * 2 * EXTENT - EXTENT
+    half = (np.arange(n - n // 2) + (0.5 if n % 2 == 0 else 0.0)) / n * 2 * EXTENT
+    c = np.concatenate([-half[::-1][: n // 2], half])  # exactly mirror-symmetric pixel centres
     x, y = np.meshgrid(c, -c)  # row 0 is dorsal (top of the picture)
     ax = np.abs(x)
     r = np.hypot(x, y)
