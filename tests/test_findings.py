@@ -1,4 +1,5 @@
 """The findings document format v1: reading, writing, errors."""
+import dataclasses
 import json
 
 import pytest
@@ -64,7 +65,7 @@ def test_not_json():
 
 def test_findings_is_frozen():
     f = Findings({("motor", "left", "L2"): 3})
-    with pytest.raises(Exception):
+    with pytest.raises(dataclasses.FrozenInstanceError):
         f.label = "x"
     with pytest.raises(TypeError):
         f.items[("motor", "left", "L2")] = 4
