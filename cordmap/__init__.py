@@ -7,7 +7,9 @@ from .findings import Findings
 from .findings import parse as load_findings
 from .lesions import PATTERNS, Lesion
 from .model import section
+from .rank import Ranking, rank
 from .simulate import simulate
 
-__all__ = ["CordmapError", "Findings", "Lesion", "PATTERNS", "load_findings", "section", "simulate"]
+__all__ = ["CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "load_findings", "rank", "section",
+           "simulate"]
 __version__ = "0.1.0"
