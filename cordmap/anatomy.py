@@ -28,7 +28,7 @@ def _table(name: str, required: tuple[str, ...]) -> pd.DataFrame:
     return df
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Anatomy:
     segments: tuple[str, ...]
     segment_table: pd.DataFrame
@@ -54,7 +54,10 @@ class Anatomy:
         return range(self.index(row["first"]), self.index(row["last"]) + 1)
 
     def vertebra(self, seg: str) -> str:
-        return self.segment_table.set_index("segment").loc[seg, "vertebra"]
+        return _vertebrae(self)[seg]
+
+    def muscle_name(self, myotome: str) -> str:
+        return _muscle_names(self)[myotome]
 
 
 def _weights(spec: str, segs: tuple[str, ...]) -> dict[int, float]:
@@ -97,3 +100,14 @@ def anatomy() -> Anatomy:
 REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "hoffmann", "abdominal_upper",
             "abdominal_lower", "cremasteric", "knee", "ankle", "plantar")
 TENDON_REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "knee", "ankle")
+
+
+@cache
+def _vertebrae(a: Anatomy) -> dict[str, str]:
+    return dict(zip(a.segment_table["segment"], a.segment_table["vertebra"]))
+
+
+@cache
+def _muscle_names(a: Anatomy) -> dict[str, str]:
+    t = a.muscle_table
+    return dict(zip(t["myotome"], t["muscle"]))

@@ -15,7 +15,6 @@ import hashlib
 import itertools
 import os
 from dataclasses import dataclass
-from functools import cache
 from importlib import resources
 from pathlib import Path
 
@@ -48,6 +47,11 @@ class Atlas:
     offsets: np.ndarray  # (items + 1,) first column of each item
     logp: np.ndarray  # (columns, n) float32
 
+    def __post_init__(self):
+        object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
+        names = np.array([v.pattern for v in self.variants])
+        object.__setattr__(self, "pattern_of", names[self.variant])  # (n,) pattern id of each candidate
+
     def __len__(self):
         return len(self.top)
 
@@ -58,7 +62,7 @@ class Atlas:
 
     @property
     def item_index(self) -> dict[tuple, int]:
-        return _item_index(self.items)
+        return self._index  # type: ignore[attr-defined]
 
     def column(self, item: tuple, value) -> int:
         i = self.item_index[item]
@@ -68,11 +72,6 @@ class Atlas:
         """P(value | candidate) for one item: (len(cand), n_values)."""
         i = self.item_index[item]
         return np.exp(self.logp[self.offsets[i]:self.offsets[i + 1]][:, cand].T)
-
-
-@cache
-def _item_index(items):
-    return {k: i for i, k in enumerate(items)}
 
 
 def variants() -> tuple[Variant, ...]:

@@ -79,7 +79,7 @@ def item_label(key: tuple) -> str:
     if key[0] == "sensory":
         return f"{key[1].replace('_', ' ')} {key[2]} {key[3]}"
     if key[0] == "motor":
-        muscle = anatomy().muscle_table.set_index("myotome").loc[key[2], "muscle"]
+        muscle = anatomy().muscle_name(key[2])
         return f"{key[1]} {key[2]} {muscle}"
     if key[0] == "reflex":
         return f"{key[1]} {key[2].replace('_', ' ')} reflex" if key[2] not in ("plantar", "hoffmann") \

@@ -133,16 +133,13 @@ def _softmax(x: np.ndarray) -> np.ndarray:
 
 def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple]) -> tuple[float, float]:
     """Expected log-likelihood of candidate i on its own simulated findings over `items`, and its variance."""
-    mean = var = 0.0
-    index = at.item_index
-    for key in items:
-        k = index[key]
-        lp = at.logp[at.offsets[k]:at.offsets[k + 1], i].astype(np.float64)
-        p = np.exp(lp)
-        m = float((p * lp).sum())
-        mean += m
-        var += float((p * (lp - m) ** 2).sum())
-    return mean, var
+    lp = at.logp[:, i].astype(np.float64)
+    p = np.exp(lp)
+    starts = at.offsets[:-1]
+    m = np.add.reduceat(p * lp, starts)  # expected log-probability per item
+    m2 = np.add.reduceat(p * lp * lp, starts)
+    sel = np.array([at.item_index[k] for k in items])
+    return float(m[sel].sum()), float((m2[sel] - m[sel] ** 2).sum())
 
 
 
@@ -167,12 +164,10 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
     hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f) for r, i in enumerate(best))
-    pm: dict[str, float] = {}
-    lm: dict[str, float] = {}
     segs = anatomy().segments
-    pat_of = np.array([v.pattern for v in at.variants])[at.variant]
-    for name in dict.fromkeys(pat_of):
-        pm[name] = float(post[pat_of == name].sum())
+    names = sorted({v.pattern for v in at.variants})
+    sums = np.bincount(np.searchsorted(np.array(names), at.pattern_of), weights=post, minlength=len(names))
+    pm = {name: float(sums[j]) for j, name in enumerate(names)}
     tops = np.bincount(at.top, weights=post, minlength=30)
     lm = {segs[i]: float(tops[i]) for i in range(30) if tops[i] > 1e-4}
     pm = dict(sorted(pm.items(), key=lambda kv: -kv[1]))
@@ -258,19 +253,19 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
     return out
 
 
-def _predicted_value(at, i, key):
-    p = at.probs(key, np.array([i]))[0]
-    return item_values(key)[int(p.argmax())], p
-
-
 def _hypothesis(rank_no, at, i, prob, ll, f: Findings) -> Hypothesis:
     lesion = at.lesion(i)
     agree, conflict = [], []
+    column = at.logp[:, i]
+    index = at.item_index
     for key, value in f.items.items():
-        if value == "NT" or key not in at.item_index:
+        if value == "NT" or key not in index:
             continue
-        pv, p = _predicted_value(at, i, key)
-        pe = p[item_values(key).index(value)]
+        k = index[key]
+        lp = column[at.offsets[k]:at.offsets[k + 1]]
+        values = item_values(key)
+        pv = values[int(lp.argmax())]
+        pe = float(np.exp(lp[values.index(value)]))
         if pe < 0.2:
             conflict.append((key, value, pv))
         elif pv == value and _abnormal(key, value):
@@ -342,8 +337,7 @@ def _why(key, at, pool, w) -> str:
 
 def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
     out = []
-    pat = np.array([v.pattern for v in at.variants])[at.variant]
-    compressive = np.isin(pat, ["lateral_compression", "anterior_compression", "posterior_compression",
+    compressive = np.isin(at.pattern_of, ["lateral_compression", "anterior_compression", "posterior_compression",
                                 "cauda_equina", "conus"])
     weak = any(v != "NT" and v < 4 for k, v in f.items.items() if k[0] == "motor")
     if post[compressive].sum() > 0.1 or f.phase == "acute" or weak:
