@@ -419,20 +419,24 @@ def classify(findings, non_key: Mapping[str, str | None] | None = None) -> Class
     for s in SIDES:
         beyond[s], unk = _beyond_three(ex, s, sides[s].motor, nk[s])
         ais_unknown += unk + (list(sides[s].motor_unknown) if len(sides[s].motor) > 1 else [])
-    motor_incomplete = _or(vac_set, _and(sensory_incomplete, _or(beyond["left"], beyond["right"])))
+    beyond_any = _or(beyond["left"], beyond["right"])
     normal, normal_unknown = _all_normal(ex)
     half, half_unknown, vacuous = _half_rule(ex, nli_set)
     grades: set[str] = set()
-    if True in complete_set:
-        grades.add("A")
-    if False in complete_set:
-        if True in normal:
+    motor_incomplete: set[bool] = set()
+    for si, v in product(sensory_incomplete, vac_set):  # keep the sacral findings consistent across the rules
+        if not (si or v):
+            grades.add("A")
+            continue
+        if v and True in normal:
             grades.add("E")
             ais_unknown += normal_unknown
-        if False in normal:
-            if False in motor_incomplete:
+        if False in normal or not v:
+            mi = {True} if v else {si and b for b in beyond_any}
+            motor_incomplete |= mi
+            if False in mi:
                 grades.add("B")
-            if True in motor_incomplete:
+            if True in mi:
                 grades |= half
                 ais_unknown += half_unknown
     if len(grades) == 1:
@@ -451,7 +455,7 @@ def classify(findings, non_key: Mapping[str, str | None] | None = None) -> Class
                      "without any muscle to count.")
     for s in SIDES:
         if nk[s] is not None and ais in ("C", "D") and vac is not True:
-            notes.append(f"Non-key muscle function on the {s} at {lv[nk[s]]} was counted for motor incompleteness "
+            notes.append(f"Non-key muscle function on the {s} at {lv[nk[s]]} entered the test for motor incompleteness "
                          "(B versus C), as the 2019 revision allows; it does not enter levels, scores or zones.")
 
     # zones of partial preservation
