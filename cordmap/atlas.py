@@ -51,6 +51,12 @@ class Atlas:
         object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
         names = np.array([v.pattern for v in self.variants])
         object.__setattr__(self, "pattern_of", names[self.variant])  # (n,) pattern id of each candidate
+        # (items, n) how abnormal each candidate's most likely value of each item is (0 = normal)
+        abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
+        for k, key in enumerate(self.items):
+            best = self.logp[self.offsets[k]:self.offsets[k + 1]].argmax(axis=0)
+            abn[k] = abnormality(key)[best]
+        object.__setattr__(self, "abnormal", abn)
 
     def __len__(self):
         return len(self.top)
@@ -72,6 +78,22 @@ class Atlas:
         """P(value | candidate) for one item: (len(cand), n_values)."""
         i = self.item_index[item]
         return np.exp(self.logp[self.offsets[i]:self.offsets[i + 1]][:, cand].T)
+
+
+def abnormality(key: tuple) -> np.ndarray:
+    """For each value of an item, how far from normal it is (0 = normal): used to combine two lesions."""
+    values = item_values(key)
+    if key[0] == "sensory":
+        return np.array([2 - v for v in values], dtype=np.int8)
+    if key[0] == "motor":
+        return np.array([5 - v for v in values], dtype=np.int8)
+    if key[0] == "reflex":
+        normal = {"absent"} if key[2] == "hoffmann" else {"normal", "present", "flexor"}
+    elif key[1] == "horner":
+        normal = {False}
+    else:
+        normal = {"normal", "present", True}
+    return np.array([0 if v in normal else 1 for v in values], dtype=np.int8)
 
 
 def variants() -> tuple[Variant, ...]:

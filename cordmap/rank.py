@@ -27,6 +27,9 @@ FORMAT = "cordmap-ranking/1"
 # corrupted still fit (see tests/test_rank.py) while two-lesion pictures do not.
 POOR_FIT_Z = 4.0
 POOR_FIT_NATS = 8.0
+# ...or when adding a second lesion to the best one improves the fit by more than this (nats): random exam errors
+# rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
+SECOND_LESION_GAIN = 10.0
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 
 
@@ -144,6 +147,20 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple]) -> tuple[float, f
 
 
 
+def second_lesion(at, b: int, cols: np.ndarray, items: list[tuple]) -> tuple[int, float]:
+    """The candidate that, added to candidate b, best improves the fit, and the gain in nats.
+
+    Two lesions together predict, item by item, the more abnormal of their two predictions.
+    """
+    rows = np.array([at.item_index[k] for k in items])
+    lp = at.logp[cols]  # (examined, candidates)
+    abn = at.abnormal[rows]
+    worse = abn > abn[:, b:b + 1]
+    gain = np.where(worse, lp - lp[:, b:b + 1], 0.0).sum(axis=0)
+    c = int(gain.argmax())
+    return c, float(gain[c])
+
+
 def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray] | None = None,
          next_tests: int = 5, classify: bool = True) -> Ranking:
     """Rank every candidate of the atlas against `findings` (a Findings, dict, JSON string or path)."""
@@ -159,10 +176,13 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     if items:
         mean, var = _self_fit(at, int(best[0]), items)
         gap = mean - float(ll[best[0]])
-        if gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9)):
+        second, gain = second_lesion(at, int(best[0]), cols, items)
+        if (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN:
             fit = "poor"
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
+            if gain > SECOND_LESION_GAIN:
+                advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
     hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f) for r, i in enumerate(best))
     segs = anatomy().segments
     names = sorted({v.pattern for v in at.variants})
