@@ -292,7 +292,7 @@ class ExamApp:
         left.add_class("cm-exam")
 
         right = self._build_hypotheses()
-        body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", gap="6px"))
+        body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", justify_content="space-between", width="1330px"))
         style = W.HTML(CSS, layout=W.Layout(display="none"))
         self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.log])
         self.widget.add_class("cm-app")
@@ -385,7 +385,7 @@ class ExamApp:
             lab = W.HTML(esc(r.replace("_", " ")), layout=W.Layout(width="150px"))
             refl.append(W.HBox([lab, *[self._dropdown(("reflex", s, r), "100px") for s in SIDES]]))
         half = (len(refl) + 1) // 2
-        grid = W.HBox([W.VBox(refl[:half]), W.VBox([refl[0]] + refl[half:])], layout=W.Layout(gap="24px"))
+        grid = W.HBox([W.VBox(refl[:half]), W.VBox([refl[0]] + refl[half:])])
         return W.VBox([*rows, W.HTML("<hr style='border:0;border-top:1px solid #d5dbe3'>"), grid])
 
     def _build_sacral(self) -> W.Widget:
@@ -439,7 +439,7 @@ class ExamApp:
         self.pic_caption.add_class("cm-legend")
         self.facts = W.HTML("")
         self.facts.add_class("cm-facts")
-        pics = W.HBox([self.section_img, self.body_img], layout=W.Layout(gap="4px"))
+        pics = W.HBox([self.section_img, self.body_img], layout=W.Layout(justify_content="space-between"))
         under = W.HBox([self.map_mod, self.pic_caption], layout=W.Layout(align_items="center"))
         col = W.VBox([head, self.poor, self.lead, *[r[0] for r in self.rows], pics, under, self.facts,
                       self.specific],
