@@ -2,6 +2,7 @@
 
 Decision support, not a diagnosis. Acute myelopathy is an emergency; local protocols and licensed clinicians decide.
 """
+from .classify import Classification, classify
 from .errors import CordmapError
 from .findings import Findings
 from .findings import parse as load_findings
@@ -10,6 +11,6 @@ from .model import section
 from .rank import Ranking, rank
 from .simulate import simulate
 
-__all__ = ["CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "load_findings", "rank", "section",
-           "simulate"]
+__all__ = ["Classification", "CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "load_findings", "rank", "section",
+           "simulate", "classify"]
 __version__ = "0.1.0"

@@ -58,12 +58,21 @@ def _print_ranking(r, out=sys.stdout):
         w("\nNext tests that would best separate the leading hypotheses:\n")
         for t in r.next_tests:
             w(f"  * {t.finding}: {t.why}\n")
-    if r.classification is not None and hasattr(r.classification, "summary"):
-        w(f"\nISNCSCI classification: {r.classification.summary()}\n")
+    if r.classification is not None:
+        w(f"\nISNCSCI classification: {classification_line(r.classification.to_dict())}\n")
     w("\nCautions:\n")
     for c in r.cautions:
         w(f"  ! {c}\n")
     w(f"\n{C.BANNER}\n")
+
+
+def classification_line(d: dict) -> str:
+    """One line of the ISNCSCI classification, e.g. 'NLI T5, AIS D (incomplete); sensory L T5 / R T6; ...'."""
+    complete = {True: "complete", False: "incomplete"}.get(d["complete"], "completeness ND")
+    sl, ml = d["sensory_level"], d["motor_level"]
+    return (f"NLI {d['neurological_level']}, AIS {d['ais']} ({complete}); sensory level L {sl['left']} / "
+            f"R {sl['right']}; motor level L {ml['left']} / R {ml['right']}; UEMS {d['scores']['uems']['total']}, "
+            f"LEMS {d['scores']['lems']['total']}")
 
 
 def cmd_patterns(args):
