@@ -11,6 +11,6 @@ from .model import section
 from .rank import Ranking, rank
 from .simulate import simulate
 
-__all__ = ["Classification", "CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "load_findings", "rank", "section",
-           "simulate", "classify"]
+__all__ = ["Classification", "CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "classify",
+           "load_findings", "rank", "section", "simulate"]
 __version__ = "0.1.0"
