@@ -292,7 +292,8 @@ class ExamApp:
         left.add_class("cm-exam")
 
         right = self._build_hypotheses()
-        body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", justify_content="space-between", width="1330px"))
+        body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", justify_content="space-between",
+                                                     width="1330px"))
         style = W.HTML(CSS, layout=W.Layout(display="none"))
         self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.log])
         self.widget.add_class("cm-app")
