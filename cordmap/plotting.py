@@ -310,7 +310,8 @@ def draw_section(seg: str, lesion=None, ax=None, lamination: bool = True, labels
         sub = f"{seg} lies outside the lesion's extent ({lesion.top}-{lesion.bottom}): no lesion at this level"
     else:
         sub = f"{tw:g} \u00d7 {ap:g} mm; hatched = lesion at this level"
-    fig.text(box.x0 + 0.01, min(box.y1 + 0.085, 0.985), title, ha="left", va="top", fontsize=8.6 * k,
+    fit = min(1.0, 44 / max(len(title), 1))  # long lesion titles shrink rather than run off the picture
+    fig.text(box.x0 + 0.01, min(box.y1 + 0.085, 0.985), title, ha="left", va="top", fontsize=8.6 * k * fit,
              weight="bold", family=FONT, color=INK)
     fig.text(box.x0 + 0.01, min(box.y1 + 0.04, 0.94), sub, ha="left", va="top", fontsize=6.6 * k,
              color="#444444", family=FONT)
