@@ -176,23 +176,55 @@ def _known(keys, allowed, where, what):
             raise bad_value(f"{where}[{k!r}]" if where else repr(k), k, allowed, what)
 
 
+def _one_line(text: str, limit: int = 120) -> str:
+    text = " ".join(str(text).split())
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+def _looks_like_json(text: str) -> bool:
+    """JSON text rather than a path: starts like a JSON value, or holds a newline (no path does)."""
+    t = text.lstrip()
+    return not t or t[0] in '{["-0123456789' or t.startswith(("true", "false", "null")) or "\n" in text
+
+
+def _read_file(path: Path):
+    shown = _one_line(repr(str(path)), 80)
+    if "\x00" in str(path):
+        raise CordmapError(f"{shown}: not a file name (it holds a null character)")
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise CordmapError(f"{shown}: no such findings file") from None
+    except IsADirectoryError:
+        raise CordmapError(f"{shown}: is a folder, not a findings file") from None
+    except UnicodeDecodeError as e:
+        raise CordmapError(f"{shown}: not UTF-8 text ({e.reason} at byte {e.start})") from None
+    except OSError as e:
+        raise CordmapError(f"{shown}: cannot be read ({_one_line(e.strerror or e)})") from None
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as e:
+        raise CordmapError(f"{shown}: not valid JSON ({_one_line(str(e))})") from None
+
+
 def parse(doc) -> Findings:
     """Read a findings document from a dict, a JSON string, or a path to a JSON file."""
     if isinstance(doc, Findings):
         return doc
-    if isinstance(doc, Path) or (isinstance(doc, str) and not doc.lstrip().startswith("{")):
-        path = Path(doc)
-        if not path.exists():
-            raise CordmapError(f"{path}: no such findings file")
+    if isinstance(doc, bytes):
         try:
-            doc = json.loads(path.read_text(encoding="utf-8"))
-        except (UnicodeDecodeError, json.JSONDecodeError) as e:
-            raise CordmapError(f"{path}: not valid JSON ({e})") from None
-    elif isinstance(doc, (str, bytes)):
+            doc = doc.decode("utf-8")
+        except UnicodeDecodeError as e:
+            raise CordmapError(f"findings: not UTF-8 text ({e.reason} at byte {e.start})") from None
+    if isinstance(doc, str) and not _looks_like_json(doc):
+        doc = Path(doc) if doc.strip() else doc
+    if isinstance(doc, Path):
+        doc = _read_file(doc)
+    elif isinstance(doc, str):
         try:
             doc = json.loads(doc)
-        except (UnicodeDecodeError, json.JSONDecodeError) as e:
-            raise CordmapError(f"findings: not valid JSON ({e})") from None
+        except json.JSONDecodeError as e:
+            raise CordmapError(f"findings: not valid JSON ({_one_line(str(e))})") from None
     doc = _mapping(doc, "findings")
     a = anatomy()
     fmt = doc.get("format")

@@ -586,9 +586,6 @@ def test_bad_values_name_their_path(doc, where):
     assert where in str(e.value) and "\n" not in str(e.value)
 
 
-@pytest.mark.xfail(strict=True, reason="core bug: parse() treats any text not starting with '{' as a path: '' or '.' "
-                   "raises IsADirectoryError, a long one OSError (File name too long), and one with a newline gives "
-                   "a two-line message")
 @settings(max_examples=200, deadline=None)
 @given(st.text(max_size=300) | st.sampled_from(["", ".", "x" * 5000, "[1,\n2]", '"text"', "42"]))
 def test_malformed_text_raises_cordmap_error(text):
