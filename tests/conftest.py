@@ -32,8 +32,9 @@ def _missing(reason: str):
 def voila_server():
     """Voilà on a free 127.0.0.1 port, in its own process group; yields the base URL."""
     try:
-        from cordmap import serve
         import voila  # noqa: F401
+
+        from cordmap import serve
     except ImportError as e:
         _missing(f"Voilà is not installed ({e}); pip install -e '.[test]'")
     port = serve.free_port()

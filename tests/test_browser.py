@@ -91,11 +91,13 @@ def test_dashboard_shows_demo_ranking_and_cautions(demo_page, demo_leader, scree
 def test_clicking_cells_changes_the_leader(demo_page, screenshot_dir):
     page = demo_page
     first = lead(page)
-    for n, d in enumerate(CLICK_PATH, 1):
+    clicked = []
+    for d in CLICK_PATH:
         click_cell(page, "pinprick", "right", d)
+        clicked.append(d)
         if lead(page) != first:
             break
-    assert lead(page) != first, f"leader stayed {first!r} after {n} clicks"
+    assert lead(page) != first, f"leader stayed {first!r} after clicking pinprick right {clicked}"
     assert page.locator(".cm-error:visible").count() == 0
     page.screenshot(path=str(screenshot_dir / "dashboard-after-clicks.png"))
 
