@@ -82,13 +82,22 @@ class Section:
     region_pixels: np.ndarray  # pixel count per region
 
     def fraction_lost(self, mask: np.ndarray) -> np.ndarray:
-        """Destroyed fraction of every region for one mask (n, n) or a stack of masks (k, n, n)."""
-        m = np.asarray(mask, dtype=np.float32).reshape(-1, self.region.size)
-        inside = self.region.ravel() >= 0
-        ids = self.region.ravel()[inside]
+        """Destroyed fraction of every region for one mask (n, n) or a stack of masks (k, n, n).
+
+        A boolean mask is counted (the same numbers as summing its pixels as weights, about ten times faster);
+        any other mask is a weight per pixel.
+        """
+        flat = self.region.ravel()
+        inside = flat >= 0
+        counted = np.asarray(mask).dtype == bool
+        m = np.asarray(mask, dtype=bool if counted else np.float32).reshape(-1, self.region.size)
         out = np.zeros((m.shape[0], len(self.regions)), dtype=np.float32)
+        ids = None if counted else flat[inside]
         for k in range(m.shape[0]):
-            out[k] = np.bincount(ids, weights=m[k, inside], minlength=len(self.regions))
+            if counted:
+                out[k] = np.bincount(flat[m[k] & inside], minlength=len(self.regions))
+            else:
+                out[k] = np.bincount(ids, weights=m[k, inside], minlength=len(self.regions))
         out /= self.region_pixels
         return out if np.ndim(mask) == 3 else out[0]
 

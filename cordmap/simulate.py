@@ -1,12 +1,22 @@
-"""`simulate(lesion) -> Findings`: the forward model for one lesion."""
+"""`simulate(lesion) -> Findings`: the forward model for one lesion.
+
+The masks of a lesion do not depend on its extent (top and bottom only select segments), so the per-segment fibre
+losses of a pattern variant (pattern, side, parameters) are computed once, for all 31 segments, and kept as the
+cumulative sums `forward.extent_sums` (`variant_sums`); any extent of that variant then costs one subtraction and
+the readout. Custom masks are not cached (a `Lesion`'s equality ignores its mask).
+"""
 from __future__ import annotations
+
+import threading
+from collections import OrderedDict
+from dataclasses import fields
 
 import numpy as np
 
 from .anatomy import MODALITIES, REFLEXES, SIDES, anatomy
 from .findings import SIGNS, Findings, reflex_values
-from .forward import SENSORY_THRESHOLDS, Readout, along_extent, fibre_losses_per_segment, readout
-from .lesions import Lesion, lesion_masks
+from .forward import SENSORY_THRESHOLDS, Readout, extent_losses, extent_sums, fibre_losses_per_segment, readout
+from .lesions import CUSTOM, Lesion, lesion_masks
 from .model import DEFAULT_RESOLUTION, sections
 
 SIGN_KEYS = (("horner", "left"), ("horner", "right"), *((name, "") for name in SIGNS))
@@ -41,11 +51,54 @@ def readout_to_findings(r: Readout, i: int, label: str = "", phase: str = "chron
     return Findings(items, label, phase)
 
 
+EXTENT_FIELDS = ("top", "bottom", "phase")  # what a lesion's masks do not depend on
+VARIANT_CACHE_SIZE = 128  # pattern variants kept (about 110 kB each)
+_VARIANTS: OrderedDict[tuple, np.ndarray] = OrderedDict()
+_LOCK = threading.Lock()
+
+
+def variant_key(lesion: Lesion) -> tuple | None:
+    """What a lesion's masks depend on: every compared field but the extent and phase, parameters with defaults
+    filled in. None for a custom mask (never cached)."""
+    if lesion.pattern == CUSTOM:
+        return None
+    key = []
+    for f in fields(lesion):
+        if f.compare and f.name not in EXTENT_FIELDS:
+            value = tuple(sorted(lesion.all_params().items())) if f.name == "params" else getattr(lesion, f.name)
+            key.append((f.name, value))
+    return tuple(key)
+
+
+def _sums(lesion: Lesion, resolution: int) -> np.ndarray:
+    """(1, 32, features) `extent_sums` of the lesion's masks on all segments, computed afresh."""
+    return extent_sums(fibre_losses_per_segment(lesion_masks(lesion, sections(resolution))[None], resolution))
+
+
+def variant_sums(lesion: Lesion, resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
+    """`_sums` of the lesion, kept per pattern variant (least recently used dropped first); read-only."""
+    key = variant_key(lesion)
+    if key is None:
+        return _sums(lesion, resolution)
+    key = (key, resolution)
+    with _LOCK:
+        cum = _VARIANTS.get(key)
+        if cum is not None:
+            _VARIANTS.move_to_end(key)
+            return cum
+    cum = _sums(lesion, resolution)
+    cum.flags.writeable = False
+    with _LOCK:
+        _VARIANTS[key] = cum
+        while len(_VARIANTS) > VARIANT_CACHE_SIZE:
+            _VARIANTS.popitem(last=False)
+    return cum
+
+
 def predict(lesion: Lesion, resolution: int = DEFAULT_RESOLUTION) -> Readout:
     """The raw readout (loss fractions, expected grades) of one lesion."""
-    secs = sections(resolution)
-    per_seg = fibre_losses_per_segment(lesion_masks(lesion, secs)[None], resolution)
-    L = along_extent(per_seg, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
+    cum = variant_sums(lesion, resolution)
+    L = extent_losses(cum, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
     return readout(L, lesion.phase == "acute")
 
 
