@@ -161,6 +161,15 @@ def second_lesion(at, b: int, cols: np.ndarray, items: list[tuple]) -> tuple[int
     return c, float(gain[c])
 
 
+def assess_fit(at, cols: np.ndarray, items: list[tuple], ll: np.ndarray, b: int) -> tuple[str, int, float]:
+    """'good' or 'poor' for the best candidate b, with the best second lesion and its gain in nats."""
+    mean, var = _self_fit(at, b, items)
+    gap = mean - float(ll[b])
+    second, gain = second_lesion(at, b, cols, items)
+    poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
+    return ("poor" if poor else "good"), second, gain
+
+
 def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray] | None = None,
          next_tests: int = 5, classify: bool = True) -> Ranking:
     """Rank every candidate of the atlas against `findings` (a Findings, dict, JSON string or path)."""
@@ -174,11 +183,8 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     best = order[: max(top, 1)]
     fit, advice = "good", ""
     if items:
-        mean, var = _self_fit(at, int(best[0]), items)
-        gap = mean - float(ll[best[0]])
-        second, gain = second_lesion(at, int(best[0]), cols, items)
-        if (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN:
-            fit = "poor"
+        fit, second, gain = assess_fit(at, cols, items, ll, int(best[0]))
+        if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
@@ -355,16 +361,56 @@ def _why(key, at, pool, w) -> str:
 
 # ------------------------------------------------------------------ cautions
 
+COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compression", "cauda_equina", "conus")
+# A candidate counts toward a caution only if it predicts nearly as large a share of the entered abnormal findings
+# as the best-explaining candidate does (at least this fraction of that share): thousands of candidates that
+# predict a near-normal exam (a thoracic anterior-horn lesion, say) must not raise a breathing caution for a
+# lumbar radiculopathy. Judgement, checked in tests/test_rank.py.
+CAUTION_EXPLAINS = 0.9
+CAUTION_MASS = 0.05  # share of the explaining posterior that raises a level-dependent caution
+
+
+def _myelopathy_signs(f: Findings) -> bool:
+    """Entered signs of a cord lesion that may be acute compression: extensor plantar, retention, a sensory level
+    (an abnormal run on one side reaching S4-5 from at least three dermatomes higher, normal above it)."""
+    items = f.items
+    if any(k[0] == "reflex" and k[2] == "plantar" and v == "extensor" for k, v in items.items()):
+        return True
+    if items.get(("sign", "bladder", "")) == "retention":
+        return True
+    derms = anatomy().dermatomes
+    for mod in MODALITIES:
+        for side in SIDES:
+            vals = [items.get(("sensory", mod, side, d)) for d in derms]
+            run = 0
+            for v in reversed(vals):
+                if v is None or v == 2:
+                    break
+                run += 1
+            if run >= 3 and any(v == 2 for v in vals[: len(vals) - run]):
+                return True
+    return False
+
+
 def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
+    """The cautions that apply: emergency, breathing, dysreflexia (weighted by the candidates that explain the
+    entered abnormal findings), and always the decision-support line."""
+    abn = [at.item_index[k] for k, v in f.items.items() if k in at.item_index and _abnormal(k, v)]
+    if abn:
+        share = at.abnormal[np.array(abn)].mean(axis=0)
+        w = np.where(share >= CAUTION_EXPLAINS * share.max(), post, 0.0)
+        w = w / w.sum() if w.sum() > 0 else w
+    else:
+        w = np.zeros_like(post)
     out = []
-    compressive = np.isin(at.pattern_of, ["lateral_compression", "anterior_compression", "posterior_compression",
-                                "cauda_equina", "conus"])
     weak = any(v != "NT" and v < 4 for k, v in f.items.items() if k[0] == "motor")
-    if post[compressive].sum() > 0.1 or f.phase == "acute" or weak:
+    if (w[np.isin(at.pattern_of, COMPRESSIVE)].sum() > 0.1 or f.phase == "acute" or weak
+            or _myelopathy_signs(f)):
         out.append(C.EMERGENCY)
-    if post[at.top <= anatomy().index("C5")].sum() > 0.05 or f.items.get(("sign", "diaphragm", "")) == "weak":
+    a = anatomy()
+    if w[at.top <= a.index("C5")].sum() > CAUTION_MASS or f.items.get(("sign", "diaphragm", "")) == "weak":
         out.append(C.BREATHING)
-    if post[at.top <= anatomy().index("T6")].sum() > 0.05:
+    if w[at.top <= a.index("T6")].sum() > CAUTION_MASS:
         out.append(C.DYSREFLEXIA)
     out.append(C.DECISION_SUPPORT)
     return tuple(out)
