@@ -85,6 +85,7 @@ class ExamApp:
         self.top = top
         self.errors: list[str] = []
         self.selected = 0
+        self._pinned = None  # a hypothesis the user picked: kept selected while it stays in the list
         self._syncing = False
         self._target = None
         self.findings = Findings()
@@ -133,13 +134,18 @@ class ExamApp:
             self.show_error(e)
             self._sync_entry()  # put the widget the user touched back to the state
             return False
-        old_lead, old_sel = self._lead_lesion(), self._sel_lesion
+        old_lead = self._lead_lesion()
         self.findings, self.ranking = new, ranking
-        keep = [i for i, h in enumerate(ranking.hypotheses) if old_sel is not None and h.lesion == old_sel]
+        keep = [i for i, h in enumerate(ranking.hypotheses) if self._pinned is not None and h.lesion == self._pinned]
         self.selected = keep[0] if keep else 0
+        if not keep:
+            self._pinned = None  # follow the leader
         self.clear_error()
+        # what the eye goes to first is sent first: the leader and its cross-section, then the clicked cells,
+        # then the list, the next tests and the body map
+        self._render_head()
         self._sync_entry()
-        self._render()
+        self._render_rest()
         if reason:
             self.status.value = esc(reason)
         self.lead_changed = old_lead != self._lead_lesion()
@@ -191,6 +197,7 @@ class ExamApp:
         if self.ranking is None or not 0 <= i < len(self.ranking.hypotheses):
             raise CordmapError(f"hypothesis {i + 1} is not in the list")
         self.selected = i
+        self._pinned = self.ranking.hypotheses[i].lesion if i else None
         self._render()
 
     def load(self, source, name: str = "findings file") -> bool:
@@ -537,6 +544,11 @@ class ExamApp:
         self.case_label.value = f"{esc(label)} · {esc(f.phase)}"
 
     def _render(self) -> None:
+        self._render_head()
+        self._render_rest()
+
+    def _render_head(self) -> None:
+        """The poor-fit verdict, the leader and the selected hypothesis' cross-section."""
         r = self.ranking
         hyps = r.hypotheses
         if r.fit == "poor":
@@ -551,6 +563,15 @@ class ExamApp:
                                f"({h0.probability:.0%})")
         else:
             self.lead.value = "Leading: <b class='cm-lead-text'>none</b>"
+        self.specific.value = "<br>".join(f"• {esc(c)}" for c in r.cautions if c not in cautions.GENERAL)
+        if hyps:
+            les = hyps[min(self.selected, len(hyps) - 1)].lesion
+            self.section_img.value = pictures.section(les.top, les)
+
+    def _render_rest(self) -> None:
+        """The ranked list, the next tests, the body map and the facts of the selected hypothesis."""
+        r = self.ranking
+        hyps = r.hypotheses
         for i, (row, _b, text) in enumerate(self.rows):
             if i >= len(hyps):
                 row.layout.display = "none"
@@ -575,7 +596,6 @@ class ExamApp:
             else:
                 b.layout.display = "none"
         self._render_selected()
-        self.specific.value = "<br>".join(f"• {esc(c)}" for c in r.cautions if c not in cautions.GENERAL)
 
     def _render_selected(self) -> None:
         r = self.ranking
@@ -585,7 +605,6 @@ class ExamApp:
         h = r.hypotheses[min(self.selected, len(r.hypotheses) - 1)]
         les = h.lesion
         pred = pictures.predicted(h)
-        self.section_img.value = pictures.section(les.top, les)
         self.body_img.value = pictures.body_map(self.findings, pred, self.map_mod.value)
         n_dis = len(pictures.disagreements(self.findings, pred))
         self.pic_caption.value = (f"left: cross-section at {esc(les.top)} with the lesion · right: "
