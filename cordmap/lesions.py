@@ -41,12 +41,83 @@ class Pattern:
     single: bool = False  # exactly one segment
 
 
+_PER_SECTION: dict[tuple[str, int], tuple] = {}  # (what, id(section)) -> (section, array): pure, built once
+
+
+def _memo(what: str, sec, make):
+    """A per-section array computed once; the section is kept alongside so its id cannot be reused."""
+    key = (what, id(sec))
+    hit = _PER_SECTION.get(key)
+    if hit is None or hit[0] is not sec:
+        hit = _PER_SECTION[key] = (sec, make(sec))
+    return hit[1]
+
+
 def _cord(sec):
-    return np.hypot(sec.x, sec.y) <= 1.0
+    return _memo("cord", sec, lambda s: _radius(s) <= 1.0)
+
+
+# White-matter structures: the long tracts and the fasciculus proprius (gray matter, entry zone and roots excluded).
+_WHITE = tuple(S[name] for name in (
+    "gracilis", "cuneatus", "lateral_corticospinal", "anterior_corticospinal", "lateral_spinothalamic",
+    "anterior_spinothalamic", "dorsal_spinocerebellar", "ventral_spinocerebellar", "descending_sympathetic",
+    "other_white"))
+
+
+def _white(sec):
+    return _memo("white", sec, lambda s: np.isin(s.structure, _WHITE))
+
+
+def _hash01(i: np.ndarray, k: np.ndarray) -> np.ndarray:
+    """A fixed pseudo-random number in [0, 1) for each integer pair (i, k): a 64-bit mix, the same on every machine."""
+    with np.errstate(over="ignore"):
+        h = i.astype(np.uint64) * np.uint64(0x9E3779B97F4A7C15) ^ k.astype(np.uint64) * np.uint64(0xC2B2AE3D27D4EB4F)
+        h ^= h >> np.uint64(31)
+        h *= np.uint64(0xBF58476D1CE4E5B9)
+        h ^= h >> np.uint64(29)
+        h *= np.uint64(0x94D049BB133111EB)
+        h ^= h >> np.uint64(32)
+    return (h >> np.uint64(11)).astype(np.float64) / float(1 << 53)
+
+
+def _make_rank(sec) -> np.ndarray:
+    n = sec.x.shape[0]
+    j = np.arange(n)
+    mirror = np.abs(2 * j - (n - 1)) // 2  # the same for a column and its mirror image (the grid is symmetric)
+    rows, cols = np.meshgrid(j, mirror, indexing="ij")
+    field = _hash01(rows, cols)
+    region = sec.region
+    inside = region >= 0
+    key = region[inside] * 2.0 + field[inside]  # sorts by region, then by the field within the region
+    ordered = np.sort(key)
+    lo = np.searchsorted(ordered, key, "left")
+    hi = np.searchsorted(ordered, key, "right")  # mirror twins in a midline region tie: they share one rank
+    start = np.searchsorted(ordered, region[inside] * 2.0, "left")
+    out = np.ones(region.shape)
+    out[inside] = ((lo + hi) / 2 - start) / sec.region_pixels[region[inside]]
+    return out
+
+
+def _dither_rank(sec) -> np.ndarray:
+    """Per pixel, its rank in [0, 1) within its region under a fixed pseudo-random order over (|x|, y).
+
+    Keeping the pixels with rank < severity thins a mask evenly: every region (one structure, side and body
+    segment) keeps the share `severity` of its pixels to within one pixel, the thinned masks are nested (a larger
+    severity is a superset) and mirror-symmetric. It models diffuse, partial degeneration of a territory.
+    """
+    return _memo("rank", sec, _make_rank)
+
+
+def _thin(sec, mask, severity):
+    return mask if severity >= 1 else mask & (_dither_rank(sec) < severity)
 
 
 def _roots(sec):
-    return (sec.structure == S["dorsal_root"]) | (sec.structure == S["ventral_root"])
+    return _memo("roots", sec, lambda s: (s.structure == S["dorsal_root"]) | (s.structure == S["ventral_root"]))
+
+
+def _radius(sec):
+    return _memo("radius", sec, lambda s: np.hypot(s.x, s.y))
 
 
 def _dorsal_columns(sec):
@@ -83,13 +154,26 @@ def _posterior(sec, xs, side, p):
 
 
 def _posterolateral(sec, xs, side, p):
+    # White matter only: both dorsal columns and the dorsolateral funiculi (lateral corticospinal tract, dorsal
+    # spinocerebellar tract, fasciculus proprius). Gray matter, the dorsal horn, Lissauer's tract and the entry zone
+    # are spared, and the lateral spinothalamic tract lies ventral to the sector, so pinprick is kept.
+    # The degeneration begins in the dorsal columns and reaches the lateral columns later and less (from memory,
+    # standard neurology teaching on combined degeneration): the dorsal columns lose twice the share `severity`
+    # (all of it from severity 0.5), the dorsolateral funiculi the share `severity`; at 1 both are wholly lost.
+    white = _white(sec)
+    dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
-    lateral = _cord(sec) & (phi >= -2) & (phi < 64) & (np.hypot(sec.x, sec.y) > 0.45)
-    return _dorsal_columns(sec) | lateral
+    lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
+    return _thin(sec, dc, 2 * p["severity"]) | _thin(sec, lateral, p["severity"])
 
 
 def _lateral_compression(sec, xs, side, p):
-    return (_cord(sec) & (xs >= 1 - 2 * p["depth"])) | (_roots(sec) & (xs > 0))
+    # The roots on the compressed side are caught from their outer end in the share 3 x depth (all of them from
+    # depth 1/3 on): a shallow mass gives a partial root sign (a numb rather than a dead dermatome, a weakened key
+    # muscle, a reduced jerk), a deep one a complete root lesion. Judgement: the root is squeezed before the cord,
+    # so it goes faster than the cord's half (depth 0.5).
+    d = p["depth"]
+    return (_cord(sec) & (xs >= 1 - 2 * d)) | _root_part(sec, xs > 0, min(1.0, 3 * d))
 
 
 def _anterior_compression(sec, xs, side, p):
@@ -106,7 +190,8 @@ def _anterior_horn(sec, xs, side, p):
 
 def _motor_neuron(sec, xs, side, p):
     st = sec.structure
-    return (st == S["ventral_horn"]) | (st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])
+    motor = (st == S["ventral_horn"]) | (st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])
+    return _thin(sec, motor, p["severity"])
 
 
 def _conus(sec, xs, side, p):
@@ -115,7 +200,7 @@ def _conus(sec, xs, side, p):
 
 def _root_part(sec, sel, fraction):
     """The outer `fraction` of the roots in `sel` (by distance from the cord), so a partial lesion spares the rest."""
-    r = np.hypot(sec.x, sec.y)
+    r = _radius(sec)
     roots = _roots(sec) & sel
     if fraction >= 1:
         return roots
@@ -133,6 +218,8 @@ def _root(sec, xs, side, p):
     return _root_part(sec, xs > 0, p["severity"])
 
 
+_DEGENERATION = Param("severity", 1.0, (0.35, 0.65, 1.0), 0.05, 1.0,
+                      "share of the territory's fibres lost, evenly over every body segment (diffuse degeneration)")
 _DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,
                "how far the compression reaches, as a fraction of the cord's width (0.5 = half the cord)")
 
@@ -150,7 +237,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
             ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),)),
     Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
-            ("both",), _posterolateral),
+            ("both",), _posterolateral, (_DEGENERATION,)),
     Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",
             ("left", "right"), _lateral_compression, (_DEPTH,)),
     Pattern("anterior_compression", "extrinsic pressure from the front (disc, vertebral body), with depth",
@@ -160,7 +247,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("anterior_horn", "the ventral horn motor neurons alone (pure lower motor neuron)",
             ("left", "right", "both"), _anterior_horn),
     Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
-            ("both",), _motor_neuron),
+            ("both",), _motor_neuron, (_DEGENERATION,)),
     Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, tops=("L5", "S4"),
             bottom_fixed="Co1"),
     Pattern("cauda_equina", "the lumbosacral roots below the conus, worse on one side", ("left", "right"),

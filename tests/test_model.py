@@ -295,10 +295,95 @@ def _loss_vector(lesion):
      Lesion("lateral_compression", "left", "T4", params={"depth": 0.4})),
     (Lesion("hemisection", "right", "T6"), Lesion("complete", "both", "T6")),
     (Lesion("complete", "both", "T6"), Lesion("complete", "both", "T5", "T8")),
-    (Lesion("posterior", "both", "T6"), Lesion("posterolateral", "both", "T6")),
+    (Lesion("posterolateral", "both", "T6", params={"severity": 0.35}), Lesion("posterolateral", "both", "T6")),
 ])
 def test_larger_lesion_never_predicts_less(small, large):
     assert (_loss_vector(large) >= _loss_vector(small) - 1e-5).all()
+
+
+THINNED = [("motor_neuron", "C5", "T1"), ("motor_neuron", "T10", "T10"), ("posterolateral", "C6", "C7"),
+           ("posterolateral", "T4", "T4")]
+
+
+@pytest.mark.parametrize("pattern, top, bottom", THINNED)
+def test_severity_is_monotone(pattern, top, bottom):
+    """A larger severity draws a superset mask on every section and never predicts less loss."""
+    from cordmap.lesions import PATTERNS, draw_mask
+
+    grid = sorted({*next(p.grid for p in PATTERNS[pattern].params if p.name == "severity"), 0.05, 0.5, 0.8})
+    for sec in sections()[::5]:
+        masks = [draw_mask(pattern, "both", {"severity": v}, sec) for v in grid]
+        assert all((a <= b).all() for a, b in zip(masks, masks[1:])), sec.segment
+        assert masks[0].sum() < masks[-1].sum()
+    losses = [_loss_vector(Lesion(pattern, "both", top, bottom, params={"severity": v})) for v in grid]
+    for lo, hi in zip(losses, losses[1:]):
+        assert (hi >= lo - 1e-5).all()
+    assert (losses[-1] > losses[0] + 1e-3).any()
+
+
+@pytest.mark.parametrize("pattern, top, bottom", THINNED)
+@pytest.mark.parametrize("severity", [0.35, 0.65, 1.0])
+def test_thinned_patterns_are_mirror_symmetric(pattern, top, bottom, severity):
+    from cordmap.lesions import draw_mask
+    from cordmap.simulate import predict
+
+    for sec in sections()[::6]:
+        m = draw_mask(pattern, "both", {"severity": severity}, sec)
+        assert (m == m[:, ::-1]).all(), sec.segment
+    r = predict(Lesion(pattern, "both", top, bottom, params={"severity": severity}))
+    np.testing.assert_allclose(r.sensory[:, :, 0], r.sensory[:, :, 1], atol=1e-5)
+    np.testing.assert_allclose(r.motor[:, 0], r.motor[:, 1], atol=1e-5)
+    assert all((v[0] == v[1]) for v in [(r.reflexes[("left", n)], r.reflexes[("right", n)])
+                                        for n in ("biceps", "triceps", "knee", "ankle", "plantar", "hoffmann")])
+
+
+def test_thinning_spreads_over_every_body_segment():
+    """Severity s removes about the share s of every region (structure, side, body segment) the full mask hits."""
+    from cordmap.lesions import draw_mask
+
+    for sec in sections()[::4]:
+        full = sec.fraction_lost(draw_mask("motor_neuron", "both", {"severity": 1.0}, sec))
+        part = sec.fraction_lost(draw_mask("motor_neuron", "both", {"severity": 0.35}, sec))
+        hit = (full > 0) & (sec.region_pixels >= 20)
+        np.testing.assert_allclose(part[hit] / full[hit], 0.35, atol=0.05)
+
+
+def test_partial_motor_neuron_is_partial():
+    # mixed motor neuron disease: weak, not paralysed, hands with brisk legs; from memory (standard neurology teaching)
+    f = simulate(Lesion("motor_neuron", "both", "C8", params={"severity": 0.35}))
+    for side in ("left", "right"):
+        assert 1 <= motor(f, side, "C8") <= 4 and 1 <= motor(f, side, "L3") <= 4
+        assert refl(f, side, "knee") == "brisk" and refl(f, side, "plantar") == "extensor"
+        assert all(g == 2 for g in pp(f, side))
+
+
+def test_posterolateral_is_white_matter_and_spares_pinprick():
+    # Combined degeneration: dorsal columns and lateral corticospinal tracts, pain and temperature spared (from
+    # memory, standard neurology teaching on vitamin B12 deficiency).
+    from cordmap.lesions import draw_mask
+
+    white = {S[n] for n in ("gracilis", "cuneatus", "lateral_corticospinal", "dorsal_spinocerebellar", "other_white")}
+    for sec in sections():
+        m = draw_mask("posterolateral", "both", {"severity": 1.0}, sec)
+        assert set(np.unique(sec.structure[m])) <= white, sec.segment
+        for name in ("gracilis", "cuneatus", "lateral_corticospinal"):
+            tract = sec.structure == S[name]
+            assert (m[tract]).all(), (sec.segment, name)
+    for severity in (0.35, 0.65, 1.0):
+        f = simulate(Lesion("posterolateral", "both", "C5", "C7", params={"severity": severity}))
+        for side in ("left", "right"):
+            assert all(g == 2 for g in pp(f, side)), severity
+            assert mod(f, "vibration", side, "T10") < 2 and refl(f, side, "plantar") == "extensor"
+
+
+def test_shallow_lateral_compression_gives_a_partial_root_sign():
+    # A small extramedullary mass irritates and partly compresses its root before it takes the whole root (from
+    # memory, standard neurology teaching): numb (not dead) dermatome, reduced jerk; a deep one a complete root sign.
+    shallow = simulate(Lesion("lateral_compression", "right", "C7", params={"depth": 0.17}))
+    deep = simulate(Lesion("lateral_compression", "right", "C7", params={"depth": 0.42}))
+    assert mod(shallow, "pinprick", "right", "C7") == 1 and refl(shallow, "right", "triceps") == "reduced"
+    assert mod(deep, "pinprick", "right", "C7") == 0 and refl(deep, "right", "triceps") == "absent"
+    assert motor(deep, "right", "C7") < motor(shallow, "right", "C7")
 
 
 @pytest.mark.parametrize("pattern, top, params", [

@@ -412,16 +412,7 @@ def _leaders(r):
 
 
 # Real model limitations (reported to the core's owner): patterns with no severity parameter predict total loss.
-MODEL_LIMITS = {
-    "motor_neuron": "model limit: motor_neuron has no severity parameter, it predicts MRC 0 in every muscle it "
-                    "reaches, so partial UMN+LMN weakness ranks anterior_horn T1 first (ll -61 vs -120 for C7)",
-    "lateral_compression_false_level": "model limit (since BOUNDARY_SHIFT 0.2, a5d13af): a right lateral "
-                                       "compression at C1, which predicts no C7 root sign, ties the C7 one (ll "
-                                       "-79.42 vs -79.45) and ranks first",
-    "posterolateral": "model limit: posterolateral has no severity parameter (MRC 0 below the top) and predicts a "
-                      "C6-C8 pinprick band, so partial spastic weakness with spared pinprick ranks posterior "
-                      "compression C6 first (ll -88 vs -138)",
-}
+MODEL_LIMITS: dict[str, str] = {}
 
 
 @pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.xfail(strict=True, reason=MODEL_LIMITS[n]))
