@@ -57,7 +57,7 @@ def _print_ranking(r, out=sys.stdout):
     if r.next_tests:
         w("\nNext tests that would best separate the leading hypotheses:\n")
         for t in r.next_tests:
-            w(f"  * {t.finding}: {t.why}\n")
+            w(f"  * {t.why}\n")
     if r.classification is not None:
         w(f"\nISNCSCI classification: {classification_line(r.classification.to_dict())}\n")
     w("\nCautions:\n")
