@@ -185,10 +185,8 @@ def lesion_mask(seg: str, lesion, sec: Section | None = None) -> np.ndarray | No
 
 
 def lesion_title(lesion) -> str:
-    """e.g. 'left hemisection T6-T6' (the extent always written as a range)."""
-    p = ", ".join(f"{k} {v:g}" for k, v in lesion.all_params().items())
-    side = "" if lesion.side == "both" else f"{lesion.side} "
-    return f"{side}{lesion.pattern.replace('_', ' ')} {lesion.top}-{lesion.bottom}" + (f" ({p})" if p else "")
+    """e.g. 'left hemisection T6' or 'central C4-C6 (size 0.4)'; the same words as Lesion.describe()."""
+    return lesion.describe()
 
 
 def _mask_path(x: np.ndarray, y: np.ndarray, mask: np.ndarray):
