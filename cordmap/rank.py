@@ -147,25 +147,28 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple]) -> tuple[float, f
 
 
 
-def second_lesion(at, b: int, cols: np.ndarray, items: list[tuple]) -> tuple[int, float]:
+def second_lesion(at, b: int, cols: np.ndarray, items: list[tuple], lp: np.ndarray | None = None
+                  ) -> tuple[int, float]:
     """The candidate that, added to candidate b, best improves the fit, and the gain in nats.
 
-    Two lesions together predict, item by item, the more abnormal of their two predictions.
+    Two lesions together predict, item by item, the more abnormal of their two predictions. `lp` is
+    ``at.logp[cols]`` when the caller already has it.
     """
     rows = np.array([at.item_index[k] for k in items])
-    lp = at.logp[cols]  # (examined, candidates)
+    lp = at.logp[cols] if lp is None else lp  # (examined, candidates)
     abn = at.abnormal[rows]
-    worse = abn > abn[:, b:b + 1]
-    gain = np.where(worse, lp - lp[:, b:b + 1], 0.0).sum(axis=0)
+    worse = (abn > abn[:, b:b + 1]).astype(np.float32)
+    gain = np.einsum("ij,ij->j", lp, worse) - lp[:, b] @ worse
     c = int(gain.argmax())
     return c, float(gain[c])
 
 
-def assess_fit(at, cols: np.ndarray, items: list[tuple], ll: np.ndarray, b: int) -> tuple[str, int, float]:
+def assess_fit(at, cols: np.ndarray, items: list[tuple], ll: np.ndarray, b: int, lp: np.ndarray | None = None
+               ) -> tuple[str, int, float]:
     """'good' or 'poor' for the best candidate b, with the best second lesion and its gain in nats."""
     mean, var = _self_fit(at, b, items)
     gap = mean - float(ll[b])
-    second, gain = second_lesion(at, b, cols, items)
+    second, gain = second_lesion(at, b, cols, items, lp)
     poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
     return ("poor" if poor else "good"), second, gain
 
@@ -176,23 +179,26 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     f = parse(findings)
     at = atlas_mod.get(f.phase)
     cols, items = observed_columns(f, at)
-    ll = at.logp[cols].sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
+    seen = at.logp[cols]  # (examined, candidates): the log-probability of each recorded value
+    ll = seen.sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
-    order = np.argsort(-lp, kind="stable")
+    order = _leading(lp, max(top, NEXT_TEST_POOL, 1))
     best = order[: max(top, 1)]
     fit, advice = "good", ""
     if items:
-        fit, second, gain = assess_fit(at, cols, items, ll, int(best[0]))
+        fit, second, gain = assess_fit(at, cols, items, ll, int(best[0]), seen)
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
-    hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f) for r, i in enumerate(best))
+    d = _derived(at)
+    hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f, items, seen[:, i], d)
+                 for r, i in enumerate(best))
     segs = anatomy().segments
-    names = sorted({v.pattern for v in at.variants})
-    sums = np.bincount(np.searchsorted(np.array(names), at.pattern_of), weights=post, minlength=len(names))
+    names = d.pattern_names
+    sums = np.bincount(d.pattern_code, weights=post, minlength=len(names))
     pm = {name: float(sums[j]) for j, name in enumerate(names)}
     tops = np.bincount(at.top, weights=post, minlength=30)
     lm = {segs[i]: float(tops[i]) for i in range(30) if tops[i] > 1e-4}
@@ -279,23 +285,53 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
     return out
 
 
-def _hypothesis(rank_no, at, i, prob, ll, f: Findings) -> Hypothesis:
+@dataclass(frozen=True)
+class _Derived:
+    """Per-atlas arrays the ranking reuses: each candidate's most likely value of every item, pattern codes."""
+    likely: np.ndarray  # (items, n) index of the most likely value
+    pattern_names: tuple[str, ...]
+    pattern_code: np.ndarray  # (n,) index into pattern_names
+
+
+_DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
+
+
+def _derived(at: atlas_mod.Atlas) -> _Derived:
+    hit = _DERIVED.get(id(at))
+    if hit is not None and hit[0] is at:
+        return hit[1]
+    likely = np.empty((len(at.items), len(at)), dtype=np.int8)
+    for k in range(len(at.items)):
+        likely[k] = at.logp[at.offsets[k]:at.offsets[k + 1]].argmax(axis=0)
+    names, code = np.unique(at.pattern_of, return_inverse=True)
+    d = _Derived(likely, tuple(str(n) for n in names), code)
+    _DERIVED[id(at)] = (at, d)
+    return d
+
+
+def _leading(score: np.ndarray, n: int) -> np.ndarray:
+    """Indices of the n highest scores, best first, ties in index order (as a stable full sort would give)."""
+    if n >= len(score):
+        return np.argsort(-score, kind="stable")
+    kth = -np.partition(-score, n - 1)[n - 1]
+    above = np.flatnonzero(score > kth)
+    part = np.concatenate([above, np.flatnonzero(score == kth)[: n - len(above)]])
+    return part[np.lexsort((part, -score[part]))]
+
+
+def _hypothesis(rank_no, at, i, prob, ll, f: Findings, items: list[tuple], seen: np.ndarray, d: _Derived
+                ) -> Hypothesis:
+    """Hypothesis i in words; `seen` holds its log-probability of the recorded value of each of `items`."""
     lesion = at.lesion(i)
     agree, conflict = [], []
-    column = at.logp[:, i]
     index = at.item_index
-    for key, value in f.items.items():
-        if value == "NT" or key not in index:
-            continue
-        k = index[key]
-        lp = column[at.offsets[k]:at.offsets[k + 1]]
-        values = item_values(key)
-        pv = values[int(lp.argmax())]
-        pe = float(np.exp(lp[values.index(value)]))
+    for key, pe in zip(items, np.exp(seen)):
+        entered = f.items[key]
+        pv = item_values(key)[int(d.likely[index[key], i])]
         if pe < 0.2:
-            conflict.append((key, value, pv))
-        elif pv == value and _abnormal(key, value):
-            agree.append((key, value, pv))
+            conflict.append((key, entered, pv))
+        elif pv == entered and _abnormal(key, entered):
+            agree.append((key, entered, pv))
     explains = _describe(agree, conflicts=False)
     conflicts = _describe(conflict, conflicts=True)
     summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"

@@ -738,3 +738,13 @@ def test_motor_only_exam_leaves_sensation_open(atlas):
     print(f"\nmotor only: P(pinprick lost L3) {p[loses].sum():.3f}, best-vs-best gap {gap:.2f} nats")
     assert gap < 3.0
     assert 0.05 < p[loses].sum() < 0.95
+
+
+def test_leading_matches_a_stable_full_sort():
+    """rank() takes its leaders by partial sort; ties must come out in index order, as a stable full sort gives."""
+    from cordmap.rank import _leading
+
+    rng = np.random.default_rng(3)
+    for n in (1, 10, 200, 999):
+        score = rng.integers(0, 40, 1000).astype(np.float32)  # many ties
+        assert np.array_equal(_leading(score, n), np.argsort(-score, kind="stable")[:n])
