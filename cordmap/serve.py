@@ -21,6 +21,7 @@ from .errors import CordmapError
 
 ENV_FINDINGS = "CORDMAP_FINDINGS"
 DEFAULT_PORT = 8866
+IOPUB_TIMEOUT = 60  # seconds
 NOTEBOOK = Path(__file__).resolve().parent.parent / "dashboards" / "cordmap.ipynb"
 NOTEBOOK_TEXT = """{"cells": [{"cell_type": "code", "execution_count": null, "id": "cell-0", "metadata": {},
  "outputs": [], "source": ["import widgets\\n", "app = widgets.dashboard()\\n", "app.widget"]}],
@@ -101,6 +102,9 @@ def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "1
     return [sys.executable, "-m", "voila", str(notebook), "--no-browser", f"--port={port}", f"--Voila.ip={host}",
             *template,
             f"--Voila.connection_dir_root={connection_dir}", "--show_tracebacks=True",
+            # the app's thousand widget messages can trail the cell's reply by more than nbclient's default 4 s
+            # when several sessions start at once on two cores; past that timeout the page comes up empty
+            f"--VoilaExecutor.iopub_timeout={IOPUB_TIMEOUT}",
             f"--Voila.kernel_websocket_connection_class={CONNECTION_CLASS}"]
 
 

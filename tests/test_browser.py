@@ -48,6 +48,7 @@ def demo_page(dashboard, demo_leader):
         " const c = document.querySelector('.cm-cell-pinprick-right-T4');"
         " return s.selectedIndex === 0 && t && t.textContent === want && c.title.endsWith(': normal'); }",
         arg=[demo_leader])
+    wait_idle(page)
     return page
 
 
@@ -61,6 +62,12 @@ def click_cell(page, mod, side, derm) -> None:
     before = page.get_attribute(sel, "title")
     page.click(sel)
     page.wait_for_function("([sel, before]) => document.querySelector(sel).title !== before", arg=[sel, before])
+    wait_idle(page)
+
+
+def wait_idle(page) -> None:
+    """Until the app has redrawn everything of the last change (it drops the class cm-busy at the end)."""
+    page.wait_for_function("() => !document.querySelector('.cm-app').classList.contains('cm-busy')")
 
 
 def upload(page, name: str, content: bytes) -> None:

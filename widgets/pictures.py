@@ -35,8 +35,25 @@ def section(seg: str, lesion, size: tuple[int, int] = SECTION_SIZE) -> bytes:
     return fn(seg, lesion=lesion, size=size)
 
 
-@lru_cache(maxsize=64)
+_BODY_CACHE: dict = {}
+_BODY_CACHE_MAX = 64
+
+
 def body_map(entered, predicted, modality: str = "pinprick", size: tuple[int, int] = BODY_SIZE) -> bytes:
+    """The body map, cached by what it shows: the entered items of `modality` and the muscles (a click on
+    another modality's cell redraws nothing), the prediction and the size."""
+    shown = frozenset((k, v) for k, v in entered.items.items()
+                      if k[0] == "motor" or (k[0] == "sensory" and k[1] == modality))
+    key = (shown, predicted, modality, size)
+    png = _BODY_CACHE.get(key)
+    if png is None:
+        if len(_BODY_CACHE) >= _BODY_CACHE_MAX:
+            _BODY_CACHE.pop(next(iter(_BODY_CACHE)))
+        png = _BODY_CACHE[key] = _draw_body_map(entered, predicted, modality, size)
+    return png
+
+
+def _draw_body_map(entered, predicted, modality: str, size: tuple[int, int]) -> bytes:
     fn = _plotting("body_map_png")
     if fn is None:
         return _stand_in(f"body map ({modality})", size)

@@ -72,6 +72,7 @@ CSS = f"""
 .cm-legend .widget-html-content {{ font-size: 11px; color: {MUTED}; }}
 .cm-key {{ display: inline-block; width: 12px; height: 12px; border: 1px solid {RULE}; vertical-align: middle;
   margin: 0 3px 0 8px; font-size: 9px; text-align: center; line-height: 12px; }}
+.cm-app.cm-busy, .cm-app.cm-busy .widget-button {{ cursor: progress; }}
 .cm-app .widget-dropdown > select {{ font-size: 12px; }}
 .cm-app .widget-tab > .p-TabBar .p-TabBar-tab, .cm-app .lm-TabBar-tab {{ font-size: 13px; min-width: 120px; }}
 </style>

@@ -1,0 +1,243 @@
+"""Dashboard quality bars (issue 5): prints figures, asserts nothing. Run: python benchmarks/bench_dashboard.py
+
+(a) click latency measured inside the page: performance.now() at the click, a MutationObserver waits until both
+    the leader's text and the cross-section's img src have changed; median and quartiles over 20 clicks, each one
+    a click that moves the leader (worked out in-process first), on an exam that differs from every earlier one.
+(b) cold start: server start to interactive (first ranking and cross-section visible), in seconds.
+(c) ten browser sessions at once on one server: each must show a ranking and answer a click; memory per session
+    is the RSS of the server's kernel processes (children of the Voilà process, read from /proc) per session.
+
+Needs Voilà, the playwright package and /usr/bin/chromium. Talks only to its own server on 127.0.0.1.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from cordmap import demo, serve  # noqa: E402
+from cordmap.anatomy import anatomy  # noqa: E402
+from cordmap.rank import rank  # noqa: E402
+
+CHROMIUM = "/usr/bin/chromium"
+ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+VIEWPORT = {"width": 1366, "height": 768}
+DEMO = "thoracic-hemicord"
+CYCLE = {None: 2, 2: 1, 1: 0, 0: None}  # the app's click cycle (widgets.app.CYCLE)
+PREFIX = [("pinprick", "right", d) for d in ("T4", "T5", "T6")]  # unmeasured clicks before the measured one
+MEASURED = ("pinprick", "right", "T7")  # moves the demo's leader one segment up once the prefix is in
+VARY = ("temperature", "left")  # one more unmeasured cell per round, so no two measured exams are the same
+
+READY_JS = ("() => { const t = document.querySelector('.cm-lead-text'); const i = document.querySelector("
+            "'img.cm-section'); return t && t.offsetParent !== null && i && i.complete && i.naturalWidth > 0; }")
+
+MEASURE_JS = """([sel]) => new Promise((resolve, reject) => {
+  const lead = document.querySelector('.cm-lead');
+  const sec = document.querySelector('img.cm-section');
+  const body = document.querySelector('img.cm-body');
+  const lead0 = lead.textContent, sec0 = sec.src, body0 = body.src;
+  const out = {lead: null, section: null, body: null};
+  let t0 = 0;
+  const check = () => {
+    const now = performance.now();
+    if (out.lead === null && lead.textContent !== lead0) out.lead = now - t0;
+    if (out.section === null && sec.src !== sec0) out.section = now - t0;
+    if (out.body === null && body.src !== body0) out.body = now - t0;
+    if (out.lead !== null && out.section !== null) {
+      out.both = Math.max(out.lead, out.section);
+      if (out.body !== null) { obs.disconnect(); resolve(out); }
+    }
+  };
+  const obs = new MutationObserver(check);
+  obs.observe(lead, {childList: true, subtree: true, characterData: true});
+  obs.observe(sec, {attributes: true, attributeFilter: ['src']});
+  obs.observe(body, {attributes: true, attributeFilter: ['src']});
+  setTimeout(() => { obs.disconnect(); out.lead !== null && out.section !== null ? resolve(out)
+                                        : reject(new Error('no update within 15 s: ' + JSON.stringify(out))); }, 15000);
+  t0 = performance.now();
+  document.querySelector(sel).click();
+})"""
+
+
+def cell_sel(mod, side, derm) -> str:
+    return f".cm-cell-{mod}-{side}-{derm}"
+
+
+def _click(f, key):
+    v = CYCLE[f.get(key)]
+    return f.replace(remove=[key]) if v is None else f.replace({key: v})
+
+
+def plan(n: int) -> list[str]:
+    """Dermatomes of the varying strip for which the measured click moves the leader (checked with rank())."""
+    derms = anatomy().dermatomes
+    out = []
+    for d in derms:
+        f = _click(demo.case(DEMO), ("sensory", *VARY, d))
+        for key in PREFIX:
+            f = _click(f, ("sensory", *key))
+        before = rank(f, top=5).hypotheses[0].lesion
+        after = rank(_click(f, ("sensory", *MEASURED)), top=5).hypotheses[0].lesion
+        if before != after:
+            out.append(d)
+        if len(out) == n:
+            break
+    if len(out) < n:
+        raise SystemExit(f"only {len(out)} rounds found in which the measured click moves the leader")
+    return out
+
+
+def click_and_wait(page, sel: str) -> None:
+    before = page.get_attribute(sel, "title")
+    page.click(sel)
+    page.wait_for_function("([s, b]) => document.querySelector(s).title !== b", arg=[sel, before])
+    wait_idle(page)
+
+
+def wait_idle(page) -> None:
+    """Until the app has redrawn everything of the last change (it drops the class cm-busy at the end)."""
+    page.wait_for_function("() => !document.querySelector('.cm-app').classList.contains('cm-busy')")
+
+
+def reset(page) -> None:
+    page.select_option(".cm-demo select", DEMO)
+    page.wait_for_function("() => document.querySelector('.cm-demo select').selectedIndex === 0 && "
+                           "document.querySelector('.cm-cell-pinprick-right-T4').title.endsWith(': normal')")
+    wait_idle(page)
+
+
+def quartiles(xs):
+    q = statistics.quantiles(xs, n=4)
+    return q[0], statistics.median(xs), q[2]
+
+
+def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
+    """(number of kernel processes, their summed RSS in MB, the server's own RSS in MB), from /proc."""
+    def rss(pid):
+        try:
+            for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+                if line.startswith("VmRSS:"):
+                    return int(line.split()[1]) / 1024
+        except OSError:
+            pass
+        return 0.0
+
+    kids = []
+    for p in Path("/proc").iterdir():
+        if not p.name.isdigit():
+            continue
+        try:
+            stat = (p / "stat").read_text()
+            ppid = int(stat.rsplit(")", 1)[1].split()[1])
+            cmd = (p / "cmdline").read_bytes()
+        except (OSError, ValueError, IndexError):
+            continue
+        if ppid == server_pid and b"ipykernel" in cmd:
+            kids.append(int(p.name))
+    return len(kids), sum(rss(k) for k in kids), rss(server_pid)
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--clicks", type=int, default=20)
+    ap.add_argument("--sessions", type=int, default=10)
+    a = ap.parse_args()
+    try:
+        from playwright.sync_api import sync_playwright
+    except ImportError:
+        print("needs the playwright package (pip install playwright)", file=sys.stderr)
+        return 2
+    if not os.access(CHROMIUM, os.X_OK):
+        print(f"needs {CHROMIUM} (apt-get install -y chromium)", file=sys.stderr)
+        return 2
+    rounds = plan(a.clicks)
+    cdir = tempfile.mkdtemp(prefix="cordmap-bench-voila-")
+    log = open(Path(cdir) / "voila.log", "wb")  # noqa: SIM115
+    with sync_playwright() as p:
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
+        port = serve.free_port()
+        t0 = time.monotonic()
+        proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT)
+        try:
+            if not serve.wait_for_port(port, timeout=60, proc=proc):
+                print("the server did not start; see", Path(cdir) / "voila.log", file=sys.stderr)
+                return 1
+            t_port = time.monotonic() - t0
+            url = f"http://127.0.0.1:{port}/"
+            page = browser.new_page(viewport=VIEWPORT)
+            page.set_default_timeout(90_000)
+            page.goto(url, timeout=90_000)
+            page.wait_for_function(READY_JS, timeout=90_000)
+            t_ready = time.monotonic() - t0
+            print(f"(b) cold start: server start to interactive {t_ready:.1f} s (port open {t_port:.1f} s)"
+                  f"   [target <= 8 s] {'ok' if t_ready <= 8 else 'MISSED'}")
+
+            res = []
+            for d in rounds:
+                reset(page)
+                click_and_wait(page, cell_sel(*VARY, d))
+                for key in PREFIX:
+                    click_and_wait(page, cell_sel(*key))
+                res.append(page.evaluate(MEASURE_JS, [cell_sel(*MEASURED)]))
+            both = [r["both"] for r in res]
+            q1, med, q3 = quartiles(both)
+            print(f"(a) click -> new leader and cross-section, in page, {len(both)} clicks: median {med:.0f} ms "
+                  f"(quartiles {q1:.0f}-{q3:.0f} ms, first {both[0]:.0f} ms, max {max(both):.0f} ms)"
+                  f"   [target <= 120 ms] {'ok' if med <= 120 else 'MISSED'}")
+            lq1, lmed, lq3 = quartiles([r["lead"] for r in res])
+            print(f"    leader text alone: median {lmed:.0f} ms (quartiles {lq1:.0f}-{lq3:.0f} ms)")
+            bodies = [r["body"] for r in res if r.get("body") is not None]
+            if len(bodies) >= 2:
+                bq1, bmed, bq3 = quartiles(bodies)
+                print(f"    body map too (drawn after them): median {bmed:.0f} ms (quartiles {bq1:.0f}-{bq3:.0f} ms)")
+            page.close()
+
+            # (c) sessions at once
+            n0, rss0, _ = kernel_rss_mb(proc.pid)
+            t1 = time.monotonic()
+            pages = []
+            for _ in range(a.sessions):
+                ctx = browser.new_context(viewport=VIEWPORT)
+                pg = ctx.new_page()
+                pg.set_default_timeout(180_000)
+                pg.goto(url, wait_until="commit", timeout=180_000)
+                pages.append(pg)
+            ok = 0
+            for pg in pages:
+                try:
+                    pg.wait_for_function(READY_JS, timeout=180_000)
+                except Exception as e:  # noqa: BLE001 - counted and reported
+                    print("    a session did not load:", str(e).splitlines()[0])
+            t_all = time.monotonic() - t1
+            for pg in pages:
+                try:
+                    click_and_wait(pg, cell_sel("pinprick", "right", "T4"))
+                    if pg.inner_text(".cm-lead-text") and pg.locator(".cm-error:visible").count() == 0:
+                        ok += 1
+                except Exception as e:  # noqa: BLE001
+                    print("    a session did not answer a click:", str(e).splitlines()[0])
+            n, rss, server = kernel_rss_mb(proc.pid)
+            per = rss / n if n else float("nan")
+            print(f"(c) {a.sessions} sessions at once: {ok}/{a.sessions} showed a ranking and answered a click; all "
+                  f"loaded in {t_all:.1f} s; {n} kernel processes, {rss:.0f} MB RSS in all = {per:.0f} MB per session"
+                  f" (server process {server:.0f} MB; {n0} kernel(s) with {rss0:.0f} MB before)")
+            for pg in pages:
+                pg.context.close()
+        finally:
+            serve.stop(proc)
+            log.close()
+            browser.close()
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
