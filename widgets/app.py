@@ -25,7 +25,8 @@ MAX_UPLOAD = 1_000_000  # bytes
 N_ROWS = 5  # hypotheses shown
 N_NEXT = 5  # next tests shown
 CYCLE = {None: 2, 2: 1, 1: 0, 0: None}  # a click: not examined -> normal -> impaired -> absent -> not examined
-GLYPH = {None: "", 2: "2", 1: "1", 0: "0"}
+# not examined is a no-break space, not "": the browser's button view keeps its old text for an empty description
+GLYPH = {None: "\u00a0", 2: "2", 1: "1", 0: "0"}
 GRADE_WORD = {None: "not examined", 2: "normal", 1: "impaired", 0: "absent"}
 MOD_WORD = {"pinprick": "pinprick", "temperature": "temperature", "light_touch": "light touch",
             "vibration": "vibration", "joint_position": "joint position"}
@@ -333,7 +334,7 @@ class ExamApp:
                 lab.add_class("cm-striplabel")
                 cells = []
                 for d in self.derms:
-                    b = W.Button(description="", tooltip=f"{MOD_WORD[m]} {s} {d}: not examined",
+                    b = W.Button(description=GLYPH[None], tooltip=f"{MOD_WORD[m]} {s} {d}: not examined",
                                  layout=cell_layout, style=cell_style)
                     b.add_class("cm-cell")
                     b.add_class(f"cm-cell-{m}-{s}-{d}")
@@ -538,9 +539,10 @@ class ExamApp:
                     want = tuple(c for c in w._dom_classes if c not in ("cm-s0", "cm-s1", "cm-s2"))
                     want = want + ((cls,) if cls else ())
                     if tuple(w._dom_classes) != want:
-                        w._dom_classes = want
-                        w.description = GLYPH[v]
-                        w.tooltip = f"{MOD_WORD[key[1]]} {key[2]} {key[3]}: {GRADE_WORD[v]}"
+                        with w.hold_sync():  # one message per cell: colour, digit and tooltip arrive together
+                            w._dom_classes = want
+                            w.description = GLYPH[v]
+                            w.tooltip = f"{MOD_WORD[key[1]]} {key[2]} {key[3]}: {GRADE_WORD[v]}"
                 else:
                     opt = _to_option(v)
                     if w.value != opt:
