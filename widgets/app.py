@@ -273,7 +273,7 @@ class ExamApp:
         self.demo_pick.add_class("cm-demo")
         self.demo_pick.observe(g(self._on_demo), "value")
         self.upload = W.FileUpload(accept=".json,application/json", multiple=False, description="Open file",
-                                   layout=W.Layout(width="110px"))
+                                   layout=W.Layout(width="128px", min_width="128px"))
         self.upload.add_class("cm-upload")
         self.upload.observe(g(self._on_upload), "value")
         self.save_btn = W.Button(description="Save file", layout=W.Layout(width="90px"))

@@ -35,7 +35,8 @@ CSS = f"""
   margin: 4px 0; }}
 .cm-cautions .widget-html-content {{ color: {WARN_INK}; font-size: 12px; line-height: 1.35; }}
 .cm-error .widget-html-content {{ color: #7a1f00; font-weight: 600; }}
-.cm-status .widget-html-content {{ color: #c9d6e3; font-size: 12px; }}
+.cm-status .widget-html-content {{ color: #c9d6e3; font-size: 12px; white-space: nowrap; max-width: 260px;
+  overflow: hidden; text-overflow: ellipsis; }}
 .cm-col {{ background: {PANEL}; border: 1px solid {RULE}; border-radius: 4px; padding: 4px 6px; }}
 .cm-heading .widget-html-content {{ font-weight: 700; font-size: 14px; color: {ACCENT}; }}
 .cm-cell.widget-button, .cm-cell.jupyter-button {{ width: 19px; height: 20px; min-width: 19px; padding: 0;
