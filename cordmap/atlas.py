@@ -45,17 +45,22 @@ class Atlas:
     area: np.ndarray  # (n,) share of the cord section inside the mask (mean over the extent)
     items: tuple[tuple, ...]
     offsets: np.ndarray  # (items + 1,) first column of each item
-    logp: np.ndarray  # (columns, n) float32
+    logp: np.ndarray  # (columns, n) float32; read-only (a memory map when it comes from the disk cache)
+    likely: np.ndarray | None = None  # (items, n) int8 index of each candidate's most likely value; derived if None
 
     def __post_init__(self):
         object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
         names = np.array([v.pattern for v in self.variants])
         object.__setattr__(self, "pattern_of", names[self.variant])  # (n,) pattern id of each candidate
+        if self.likely is None:
+            likely = np.empty((len(self.items), len(self.top)), dtype=np.int8)
+            for k in range(len(self.items)):
+                likely[k] = self.logp[self.offsets[k]:self.offsets[k + 1]].argmax(axis=0)
+            object.__setattr__(self, "likely", likely)
         # (items, n) how abnormal each candidate's most likely value of each item is (0 = normal)
         abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
         for k, key in enumerate(self.items):
-            best = self.logp[self.offsets[k]:self.offsets[k + 1]].argmax(axis=0)
-            abn[k] = abnormality(key)[best]
+            abn[k] = abnormality(key)[self.likely[k]]
         object.__setattr__(self, "abnormal", abn)
 
     def __len__(self):
@@ -151,9 +156,13 @@ def model_version() -> str:
     return h.hexdigest()[:16]
 
 
+def _cache_root() -> Path:
+    return Path(os.environ.get("CORDMAP_CACHE", Path.home() / ".cache" / "cordmap"))
+
+
 def _cache_path(phase: str) -> Path:
-    root = Path(os.environ.get("CORDMAP_CACHE", Path.home() / ".cache" / "cordmap"))
-    return root / f"atlas-{model_version()}-{phase}.npz"
+    """The cache folder of one phase: logp.npy (memory-mapped on load, so kernels share it) and meta.npz."""
+    return _cache_root() / f"atlas-{model_version()}-{phase}"
 
 
 def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 4096) -> Atlas:
@@ -187,7 +196,7 @@ def get(phase: str = "chronic", disk: bool = True) -> Atlas:
         return _MEMORY[phase]
     path = _cache_path(phase)
     atlas = None
-    if disk and path.exists():
+    if disk and path.is_dir():
         try:
             atlas = _load(path, phase)
         except (OSError, ValueError, KeyError):
@@ -195,19 +204,39 @@ def get(phase: str = "chronic", disk: bool = True) -> Atlas:
     if atlas is None:
         atlas = build(phase)
         if disk:
-            try:
-                path.parent.mkdir(parents=True, exist_ok=True)
-                tmp = path.with_suffix(".tmp.npz")
-                np.savez(tmp, variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                         offsets=atlas.offsets, logp=atlas.logp)
-                tmp.replace(path)
-            except OSError:
-                pass
+            _save(atlas, path)
     _MEMORY[phase] = atlas
     return atlas
 
 
+def _save(atlas: Atlas, path: Path) -> None:
+    """Write the cache folder atomically (a temporary folder renamed), then remove caches of older model versions."""
+    import shutil
+    import tempfile
+
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
+        np.save(tmp / "logp.npy", atlas.logp)
+        np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
+                 offsets=atlas.offsets, likely=atlas.likely)
+        try:
+            tmp.rename(path)
+        except OSError:  # another process wrote it first
+            shutil.rmtree(tmp, ignore_errors=True)
+        keep = f"atlas-{model_version()}-"
+        for old in path.parent.glob("atlas-*"):
+            if not old.name.startswith(keep):
+                if old.is_dir():
+                    shutil.rmtree(old, ignore_errors=True)
+                else:
+                    old.unlink(missing_ok=True)
+    except OSError:
+        pass
+
+
 def _load(path: Path, phase: str) -> Atlas:
-    with np.load(path) as z:
+    logp = np.load(path / "logp.npy", mmap_mode="r")
+    with np.load(path / "meta.npz") as z:
         return Atlas(phase, variants(), z["variant"], z["top"], z["bottom"], z["area"], all_items(), z["offsets"],
-                     z["logp"])
+                     logp, z["likely"])

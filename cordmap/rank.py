@@ -300,11 +300,8 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     hit = _DERIVED.get(id(at))
     if hit is not None and hit[0] is at:
         return hit[1]
-    likely = np.empty((len(at.items), len(at)), dtype=np.int8)
-    for k in range(len(at.items)):
-        likely[k] = at.logp[at.offsets[k]:at.offsets[k + 1]].argmax(axis=0)
     names, code = np.unique(at.pattern_of, return_inverse=True)
-    d = _Derived(likely, tuple(str(n) for n in names), code)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code)
     _DERIVED[id(at)] = (at, d)
     return d
 
