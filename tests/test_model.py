@@ -245,6 +245,43 @@ def test_cauda_equina():
     assert all(g == 2 for g in pp(f, "left")[: D.index("L2")])
 
 
+def test_central_disc_takes_the_sacral_roots_of_both_sides():
+    # A central disc catches the sacral roots of both sides (they lie medially in the thecal sac) while one leg bears
+    # the brunt: saddle loss on both sides, retention, one-sided leg weakness (from memory, standard neurology
+    # teaching). With medial 0 the other side keeps its saddle.
+    central = simulate(Lesion("cauda_equina", "left", "L5", params={"contra": 0.0, "medial": 0.33}))
+    one_sided = simulate(Lesion("cauda_equina", "left", "L5", params={"contra": 0.0}))
+    assert mod(central, "pinprick", "right", "S4-5") == 0 and mod(central, "pinprick", "left", "S4-5") == 0
+    assert mod(one_sided, "pinprick", "right", "S4-5") == 2
+    assert all(mod(central, "pinprick", "right", d) == 2 for d in D[: D.index("L5") + 1])  # right leg spared
+    assert motor(central, "left", "L5") <= 1 and motor(central, "right", "L4") == 5
+    assert central.items[("sign", "bladder", "")] == "retention"
+    assert one_sided.items[("sign", "bladder", "")] == "normal"
+
+
+@pytest.mark.parametrize("contra", [0.0, 0.5])
+def test_cauda_medial_is_monotone(contra):
+    """A mass reaching further across the midline draws a superset mask on every section and never predicts less;
+    the lowest roots go first (medial 0 keeps the old pattern)."""
+    from cordmap.lesions import draw_mask
+
+    grid = (0.0, 0.1, 0.33, 0.5, 0.67, 1.0)
+    for sec in sections()[A.index("L1"):]:
+        masks = [draw_mask("cauda_equina", "left", {"contra": contra, "medial": m}, sec) for m in grid]
+        assert all((a <= b).all() for a, b in zip(masks, masks[1:])), sec.segment
+    assert (draw_mask("cauda_equina", "left", {"contra": contra, "medial": 0.0}, section("S4"))
+            == draw_mask("cauda_equina", "left", {"contra": contra}, section("S4"))).all()
+    losses = [_loss_vector(Lesion("cauda_equina", "left", "L2", params={"contra": contra, "medial": m}))
+              for m in grid]
+    for lo, hi in zip(losses, losses[1:]):
+        assert (hi >= lo - 1e-5).all()
+    assert (losses[-1] > losses[0] + 1e-3).any()
+    from cordmap.lesions import _sac_share
+
+    shares = [_sac_share(A.index(s), 0.33) for s in ("L3", "L5", "S1", "S2", "S3", "S5", "Co1")]
+    assert shares == sorted(shares) and shares[0] == 0 and shares[-1] == 1
+
+
 def test_single_root():
     f = simulate(Lesion("root", "left", "C6"))
     lost = [(s, d) for s in ("left", "right") for d in D if mod(f, "pinprick", s, d) < 2]
@@ -388,7 +425,8 @@ def test_shallow_lateral_compression_gives_a_partial_root_sign():
 
 @pytest.mark.parametrize("pattern, top, params", [
     ("hemisection", "C6", {}), ("lateral_compression", "T3", {"depth": 0.33}), ("root", "L4", {}),
-    ("cauda_equina", "L2", {"contra": 0.5}), ("anterior_horn", "C7", {}),
+    ("cauda_equina", "L2", {"contra": 0.5}), ("cauda_equina", "L4", {"contra": 0.0, "medial": 0.33}),
+    ("cauda_equina", "S1", {"contra": 0.5, "medial": 0.67}), ("anterior_horn", "C7", {}),
 ])
 def test_mirror_symmetry(pattern, top, params):
     from cordmap.simulate import predict

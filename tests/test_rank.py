@@ -453,10 +453,8 @@ CENTRAL_DISC = {
 }
 
 
-@pytest.mark.xfail(strict=True, reason="model limit: cauda_equina has one 'contra' share for all of the other side's "
-                   "roots, so bilateral saddle loss with one-sided leg signs ranks left lateral compression L5-S4 "
-                   "first (ll -26.5 vs -35.6 for the best cauda equina)")
 def test_cauda_equina_central_disc():
+    """The cauda_equina pattern's `medial` share takes the other side's innermost (lowest) roots first."""
     r = rank(CENTRAL_DISC, top=3, next_tests=0, classify=False)
     assert (r.best.lesion.pattern, r.best.lesion.side) == ("cauda_equina", "left")
 
