@@ -5,7 +5,8 @@
     a click that moves the leader (worked out in-process first), on an exam that differs from every earlier one.
 (b) cold start: server start to interactive (first ranking and cross-section visible), in seconds.
 (c) ten browser sessions at once on one server: each must show a ranking and answer a click; memory per session
-    is the RSS of the server's kernel processes (children of the Voilà process, read from /proc) per session.
+    is the RSS of the server's kernel processes (children of the Voilà process, read from /proc) per session,
+    and their PSS (shared pages such as the memory-mapped atlas split among the kernels).
 
 Needs Voilà, the playwright package and /usr/bin/chromium. Talks only to its own server on 127.0.0.1.
 """
@@ -120,17 +121,23 @@ def quartiles(xs):
     return q[0], statistics.median(xs), q[2]
 
 
-def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
-    """(number of kernel processes, their summed RSS in MB, the server's own RSS in MB), from /proc."""
-    def rss(pid):
-        try:
-            for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-                if line.startswith("VmRSS:"):
-                    return int(line.split()[1]) / 1024
-        except OSError:
-            pass
-        return 0.0
+def _proc_mb(pid: int, field: str, name: str) -> float:
+    try:
+        for line in Path(f"/proc/{pid}/{name}").read_text().splitlines():
+            if line.startswith(field):
+                return int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    return 0.0
 
+
+def kernel_pss_mb(server_pid: int) -> float:
+    """Summed PSS of the kernels in MB: shared pages (the memory-mapped atlas, libraries) divided among sharers."""
+    return sum(_proc_mb(k, "Pss:", "smaps_rollup") for k in _kernels(server_pid))
+
+
+def _kernels(server_pid: int) -> list[int]:
+    """The server's kernel processes (its children running ipykernel), from /proc."""
     kids = []
     for p in Path("/proc").iterdir():
         if not p.name.isdigit():
@@ -143,6 +150,15 @@ def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
             continue
         if ppid == server_pid and b"ipykernel" in cmd:
             kids.append(int(p.name))
+    return kids
+
+
+def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
+    """(number of kernel processes, their summed RSS in MB, the server's own RSS in MB), from /proc."""
+    def rss(pid):
+        return _proc_mb(pid, "VmRSS:", "status")
+
+    kids = _kernels(server_pid)
     return len(kids), sum(rss(k) for k in kids), rss(server_pid)
 
 
@@ -227,9 +243,12 @@ def main() -> int:
                     print("    a session did not answer a click:", str(e).splitlines()[0])
             n, rss, server = kernel_rss_mb(proc.pid)
             per = rss / n if n else float("nan")
+            pss = kernel_pss_mb(proc.pid)
             print(f"(c) {a.sessions} sessions at once: {ok}/{a.sessions} showed a ranking and answered a click; all "
                   f"loaded in {t_all:.1f} s; {n} kernel processes, {rss:.0f} MB RSS in all = {per:.0f} MB per session"
                   f" (server process {server:.0f} MB; {n0} kernel(s) with {rss0:.0f} MB before)")
+            print(f"    proportional set size (shared pages split among the kernels): {pss:.0f} MB in all = "
+                  f"{pss / n if n else float('nan'):.0f} MB per session")
             for pg in pages:
                 pg.context.close()
         finally:

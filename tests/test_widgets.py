@@ -323,3 +323,19 @@ def test_random_clicks_never_raise_and_ranking_stays_consistent(base):
             else:
                 assert _from_option(k, w.value) == v
         assert all(t.item not in app.findings.items for t in rk.next_tests)
+
+
+def test_dashboard_draws_its_pictures_after_opening():
+    """The dashboard opens with the ranking and draws the two pictures afterwards (in a thread under Voila)."""
+    import threading
+
+    from widgets import dashboard
+
+    app = dashboard(pictures_in_background=False)
+    assert app.ranking.hypotheses and bytes(app.section_img.value) and bytes(app.body_img.value)
+    app = dashboard()
+    for t in threading.enumerate():
+        if t.name == "cordmap-pictures":
+            t.join(60)
+    assert bytes(app.section_img.value)[:8] == b"\x89PNG\r\n\x1a\n" and bytes(app.body_img.value)
+    assert not app.errors
