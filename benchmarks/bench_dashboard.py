@@ -27,6 +27,7 @@ sys.path.insert(0, str(ROOT))
 from cordmap import demo, serve  # noqa: E402
 from cordmap.anatomy import anatomy  # noqa: E402
 from cordmap.rank import rank  # noqa: E402
+from tests.dashboard_page import cell_sel, click_and_wait, wait_idle  # noqa: E402
 
 CHROMIUM = "/usr/bin/chromium"
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
@@ -69,10 +70,6 @@ MEASURE_JS = """([sel]) => new Promise((resolve, reject) => {
 })"""
 
 
-def cell_sel(mod, side, derm) -> str:
-    return f".cm-cell-{mod}-{side}-{derm}"
-
-
 def _click(f, key):
     v = CYCLE[f.get(key)]
     return f.replace(remove=[key]) if v is None else f.replace({key: v})
@@ -95,18 +92,6 @@ def plan(n: int) -> list[str]:
     if len(out) < n:
         raise SystemExit(f"only {len(out)} rounds found in which the measured click moves the leader")
     return out
-
-
-def click_and_wait(page, sel: str) -> None:
-    before = page.get_attribute(sel, "title")
-    page.click(sel)
-    page.wait_for_function("([s, b]) => document.querySelector(s).title !== b", arg=[sel, before])
-    wait_idle(page)
-
-
-def wait_idle(page) -> None:
-    """Until the app has redrawn everything of the last change (it drops the class cm-busy at the end)."""
-    page.wait_for_function("() => !document.querySelector('.cm-app').classList.contains('cm-busy')")
 
 
 def reset(page) -> None:

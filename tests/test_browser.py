@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 
 import pytest
+from dashboard_page import cell_sel, click_and_wait, wait_idle
 
 from cordmap import cautions, demo
 
@@ -57,17 +58,7 @@ def lead(page) -> str:
 
 
 def click_cell(page, mod, side, derm) -> None:
-    """Click one dermatome cell and wait until the kernel has answered (its tooltip names the new grade)."""
-    sel = f".cm-cell-{mod}-{side}-{derm}"
-    before = page.get_attribute(sel, "title")
-    page.click(sel)
-    page.wait_for_function("([sel, before]) => document.querySelector(sel).title !== before", arg=[sel, before])
-    wait_idle(page)
-
-
-def wait_idle(page) -> None:
-    """Until the app has redrawn everything of the last change (it drops the class cm-busy at the end)."""
-    page.wait_for_function("() => !document.querySelector('.cm-app').classList.contains('cm-busy')")
+    click_and_wait(page, cell_sel(mod, side, derm))
 
 
 def upload(page, name: str, content: bytes) -> None:
