@@ -638,13 +638,15 @@ class ExamApp:
             return
         h = r.hypotheses[min(self.selected, len(r.hypotheses) - 1)]
         les = h.lesion
-        pred = pictures.predicted(h)
-        if not self._defer:
+        if self._defer:  # the pictures (and the prediction they need) come with draw_pictures
+            self.pic_caption.value = "drawing the cross-section and the body map…"
+        else:
+            pred = pictures.predicted(h)
             self.body_img.value = pictures.body_map(self.findings, pred, self.map_mod.value)
-        n_dis = len(pictures.disagreements(self.findings, pred))
-        self.pic_caption.value = (f"left: cross-section at {esc(les.top)} with the lesion · right: "
-                                  f"{esc(MOD_WORD[self.map_mod.value])}, entered against predicted; "
-                                  f"{n_dis} disagreement{'s' if n_dis != 1 else ''} marked")
+            n_dis = len(pictures.disagreements(self.findings, pred))
+            self.pic_caption.value = (f"left: cross-section at {esc(les.top)} with the lesion · right: "
+                                      f"{esc(MOD_WORD[self.map_mod.value])}, entered against predicted; "
+                                      f"{n_dis} disagreement{'s' if n_dis != 1 else ''} marked")
         levels = ", ".join(h.vertebral_levels) or "—"
         lines = [f"<b>#{h.rank} {esc(les.describe())}</b>: image the spine at <b>{esc(levels)}</b>"]
         if h.explains:
