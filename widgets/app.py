@@ -340,18 +340,21 @@ class ExamApp:
         g = self._guard
         self.entry: dict[tuple, W.Widget] = {}
         gaps = {"T1", "L1", "S1"}
-        head_cells = [W.HTML(d.replace("S4-5", "S45"), layout=W.Layout(width="20px", min_width="20px",
-                                                                          margin="0 0 0 6px" if d in gaps else "0"))
-                      for d in self.derms]
-        for h in head_cells:
-            h.add_class("cm-dermhead")
-        rows = [W.HBox([W.HTML("", layout=W.Layout(width="100px", min_width="100px")), *head_cells])]
-        # the 280 cells share one layout and one style model: fewer widget messages at start and less memory
+        # the dermatome header is one HTML widget (not 28): fewer models for the browser to build at start
+        spans = "".join(f"<span class='cm-dh{' cm-dh-gap' if d in gaps else ''}'>{esc(d.replace('S4-5', 'S45'))}"
+                        "</span>" for d in self.derms)
+        head = W.HTML(f"<div class='cm-dermrow'><span class='cm-dh-lead'></span>{spans}</div>")
+        head.add_class("cm-dermhead")
+        rows = [head]
+        # the 280 cells share one layout and one style model, the strip labels one layout: fewer widget messages
+        # at start and less memory
         cell_layout, cell_style = W.Layout(width="19px", height="20px"), W.ButtonStyle()
+        label_layout = W.Layout()
         for m in MODALITIES:
             group = []
             for s in SIDES:
-                lab = W.HTML(f"{esc(MOD_WORD[m])} <b>{s[0].upper()}</b>", tooltip=f"{MOD_WORD[m]}, {s} side")
+                lab = W.HTML(f"{esc(MOD_WORD[m])} <b>{s[0].upper()}</b>", tooltip=f"{MOD_WORD[m]}, {s} side",
+                             layout=label_layout)
                 lab.add_class("cm-striplabel")
                 cells = []
                 for d in self.derms:
@@ -400,8 +403,13 @@ class ExamApp:
         return W.VBox([*rows, legend, quick])
 
     def _dropdown(self, key: tuple, width: str = "62px") -> W.Dropdown:
-        dd = W.Dropdown(options=_options(key), value="", layout=W.Layout(width=width),
-                        description_allow_html=False)
+        shared = self.__dict__.setdefault("_dd_shared", {})  # one layout model per width, one style for all
+        if width not in shared:
+            shared[width] = W.Layout(width=width)
+        extra = {"style": shared["style"]} if "style" in shared else {}
+        dd = W.Dropdown(options=_options(key), value="", layout=shared[width], description_allow_html=False,
+                        **extra)
+        shared.setdefault("style", dd.style)
         dd.add_class("cm-dd")
         dd.add_class("cm-" + "-".join(str(k) for k in key if k != ""))
         dd.observe(self._guard(functools.partial(self._on_dropdown, key)), "value")

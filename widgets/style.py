@@ -49,7 +49,11 @@ CSS = f"""
 .cm-target, .cm-cell.cm-target {{ outline: 3px solid {TARGET}; outline-offset: 1px; z-index: 2; }}
 .cm-striplabel {{ width: 100px; min-width: 100px; font-size: 12px; color: {MUTED}; }}
 .cm-striplabel .widget-html-content {{ font-size: 12px; color: {MUTED}; line-height: 20px; white-space: nowrap; }}
-.cm-dermhead .widget-html-content {{ font-size: 9px; color: {MUTED}; text-align: center; line-height: 12px; }}
+.cm-dermhead .widget-html-content {{ font-size: 9px; color: {MUTED}; line-height: 12px; }}
+.cm-dermrow {{ display: flex; }}
+.cm-dermrow .cm-dh {{ width: 20px; min-width: 20px; text-align: center; }}
+.cm-dermrow .cm-dh-gap {{ margin-left: 6px; }}
+.cm-dermrow .cm-dh-lead {{ width: 100px; min-width: 100px; }}
 .cm-stripgroup {{ margin-bottom: 3px; }}
 .cm-row {{ align-items: center; }}
 .cm-hyp {{ border-bottom: 1px solid {RULE}; padding: 1px 0; align-items: center; }}
