@@ -97,9 +97,17 @@ def notebook_path(workdir: str | os.PathLike) -> Path:
     return path
 
 
+# Voila run as `python -m voila`, except that the optional IRI checker of jsonschema (the rfc3987_syntax package,
+# pulled in through jupyter_events) is kept out: it builds a grammar at import that took 1.4 s of the server's
+# 2.4 s start here (python -X importtime), and the server validates no IRI-format fields. jsonschema skips a
+# format checker whose package is missing.
+VOILA_LAUNCHER = ("import runpy, sys; sys.modules.setdefault('rfc3987_syntax', None); "
+                  "runpy.run_module('voila', run_name='__main__', alter_sys=True)")
+
+
 def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "127.0.0.1") -> list[str]:
     template = [f"--template={TEMPLATE}"] if _template_share() else []
-    return [sys.executable, "-m", "voila", str(notebook), "--no-browser", f"--port={port}", f"--Voila.ip={host}",
+    return [sys.executable, "-c", VOILA_LAUNCHER, str(notebook), "--no-browser", f"--port={port}", f"--Voila.ip={host}",
             *template,
             f"--Voila.connection_dir_root={connection_dir}", "--show_tracebacks=True",
             # the app's thousand widget messages can trail the cell's reply by more than nbclient's default 4 s
