@@ -84,6 +84,24 @@ def main():
     dt = time.perf_counter() - t0
     print(f"batch_scores, {len(exams)} full simulated exams: {dt:.2f} s = {len(exams) / dt:.0f} cases/s"
           "   [target >= 1000]")
+    import json
+    import re
+
+    with tempfile.TemporaryDirectory() as tmp:
+        src, out = os.path.join(tmp, "cohort.jsonl"), os.path.join(tmp, "out.csv")
+        with open(src, "w") as fh:
+            for n, f in enumerate(exams):
+                fh.write(json.dumps({**f.to_dict(), "case_id": f"c{n}"}) + "\n")
+        t0 = time.perf_counter()
+        r = subprocess.run([sys.executable, "-m", "cordmap", "batch", src, "-o", out], capture_output=True, text=True)
+        wall = time.perf_counter() - t0
+        m = re.search(r"ranked (\d+) cases .* in ([\d.]+) s", r.stderr)
+        if m:
+            inner = float(m.group(2))
+            print(f"cordmap batch, {m.group(1)} cases: ranking {inner:.2f} s = {int(m.group(1)) / inner:.0f} cases/s; "
+                  f"whole command with reading and start-up {wall:.2f} s")
+        else:
+            print("cordmap batch failed:", r.stderr[-300:])
 
 
 if __name__ == "__main__":

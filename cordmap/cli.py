@@ -48,6 +48,10 @@ def _print_ranking(r, out=sys.stdout):
     for h in r.hypotheses:
         bar = "#" * max(1, round(h.probability * 30)) if h.probability >= 0.005 else "."
         w(f"{h.rank:>2}. {h.lesion.describe():<48} {h.probability:6.1%} {bar}\n")
+        if h.same_exam:
+            more = h.same_exam_count - len(h.same_exam)
+            w(f"    same predicted exam: {'; '.join(o.describe() for o in h.same_exam)}"
+              f"{f' and {more} more' if more else ''} (no bedside test separates them; imaging does)\n")
         w(f"    image vertebrae: {', '.join(h.vertebral_levels)}\n")
         if h.rank <= 3:
             for e in h.explains[:6]:
@@ -166,7 +170,7 @@ def _read_cases(path: Path):
 def cmd_batch(args):
     from . import atlas as atlas_mod
     from .findings import parse
-    from .rank import batch_scores, vertebral_levels
+    from .rank import batch_scores, exam_groups, group_levels, leading_groups, listed
 
     path = Path(args.file)
     if not path.exists():
@@ -182,7 +186,7 @@ def cmd_batch(args):
             bad.append((cid, str(e)))
             print(f"case {cid}: skipped: {e}", file=sys.stderr)
     fields = ["case_id", "status", "pattern", "side", "top", "bottom", "params", "probability", "vertebral_levels",
-              "second", "second_probability", "error"]
+              "same_exam", "second", "second_probability", "error"]
     t0 = time.perf_counter()
     rows = []
     import numpy as np
@@ -192,20 +196,22 @@ def cmd_batch(args):
         if not sel:
             continue
         at = atlas_mod.get(phase)
+        group = exam_groups(at)
         for start in range(0, len(sel), 256):
             chunk = sel[start:start + 256]
             scores = batch_scores([good[i] for i in chunk], at)
             for row, i in zip(scores, chunk):
-                order = np.argpartition(-row, 2)[:2]
-                order = order[np.argsort(-row[order])]
                 p = np.exp(row - row.max())
                 p /= p.sum()
-                les, les2 = at.lesion(int(order[0])), at.lesion(int(order[1]))
+                (m1, p1), (m2, p2) = leading_groups(row, p, group, 2)  # as rank() shows them
+                les, les2 = at.lesion(int(m1[0])), at.lesion(int(m2[0]))
                 rows.append({"case_id": ids[i], "status": "ok", "pattern": les.pattern, "side": les.side,
                              "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
-                             "probability": round(float(p[order[0]]), 4),
-                             "vertebral_levels": " ".join(vertebral_levels(les)), "second": les2.describe(),
-                             "second_probability": round(float(p[order[1]]), 4), "error": ""})
+                             "probability": round(p1, 4),
+                             "vertebral_levels": " ".join(group_levels(at, m1)),
+                             "same_exam": "; ".join(at.lesion(int(j)).describe() for j in listed(at, m1)[1:]),
+                             "second": les2.describe(),
+                             "second_probability": round(p2, 4), "error": ""})
             done = min(start + 256, len(sel))
             bar = "#" * int(30 * done / len(sel))
             print(f"\r{phase:>7} [{bar:<30}] {done}/{len(sel)}", end="", file=sys.stderr)

@@ -31,12 +31,19 @@ POOR_FIT_NATS = 8.0
 # rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
 SECOND_LESION_GAIN = 10.0
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
+SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
 
 
 def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
-    """Log prior: uniform, with a mild preference for shorter and smaller lesions (at most ~1.5 nats apart)."""
+    """Log prior: every distinct predicted exam equally likely a priori, its share split evenly among the
+    candidates that predict it, with a mild preference for shorter and smaller lesions (at most ~1.5 nats apart).
+
+    Split, not uniform per candidate: the atlas holds up to hundreds of candidates with the same predicted exam
+    (small thoracic lesions that no bedside test detects, say), and a uniform prior would give that exam hundreds
+    of times the weight of a single root's, an artefact of how densely the grid samples it."""
     extent = (at.bottom - at.top + 1).astype(np.float32)
-    return -0.04 * extent - 0.5 * at.area
+    group = exam_groups(at)
+    return (-0.04 * extent - 0.5 * at.area - np.log(np.bincount(group)[group])).astype(np.float32)
 
 
 @dataclass(frozen=True)
@@ -49,6 +56,11 @@ class Hypothesis:
     explains: tuple[str, ...]
     conflicts: tuple[str, ...]
     summary: str
+    # Other candidates whose predicted bedside exam is the same as `lesion`'s on every item the model knows (the
+    # most probable first, at most SAME_EXAM_SHOWN), and how many there are in all. No bedside test separates
+    # them; imaging does. `probability` is the mass of the whole group; `vertebral_levels` covers the listed ones.
+    same_exam: tuple[Lesion, ...] = ()
+    same_exam_count: int = 0
 
     def predicted(self) -> Findings:
         return simulate(self.lesion)
@@ -58,7 +70,10 @@ class Hypothesis:
         return {"rank": self.rank, "pattern": lz.pattern, "side": lz.side, "top": lz.top, "bottom": lz.bottom,
                 "params": lz.all_params(), "probability": round(self.probability, 4),
                 "log_likelihood": round(self.log_likelihood, 3), "vertebral_levels": list(self.vertebral_levels),
-                "explains": list(self.explains), "conflicts": list(self.conflicts)}
+                "explains": list(self.explains), "conflicts": list(self.conflicts),
+                "same_exam": [{"pattern": o.pattern, "side": o.side, "top": o.top, "bottom": o.bottom,
+                               "params": o.all_params()} for o in self.same_exam],
+                "same_exam_count": self.same_exam_count}
 
 
 @dataclass(frozen=True)
@@ -89,7 +104,8 @@ class Ranking:
     def table(self) -> pd.DataFrame:
         rows = [{**h.to_dict(), "params": json.dumps(h.lesion.all_params()),
                  "vertebral_levels": " ".join(h.vertebral_levels), "explains": "; ".join(h.explains),
-                 "conflicts": "; ".join(h.conflicts)} for h in self.hypotheses]
+                 "conflicts": "; ".join(h.conflicts), "same_exam": "; ".join(o.describe() for o in h.same_exam)}
+                for h in self.hypotheses]
         return pd.DataFrame(rows)
 
     def to_dict(self) -> dict:
@@ -184,18 +200,17 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
     order = _leading(lp, max(top, NEXT_TEST_POOL, 1))
-    best = order[: max(top, 1)]
     fit, advice = "good", ""
     if items:
-        fit, second, gain = assess_fit(at, cols, items, ll, int(best[0]), seen)
+        fit, second, gain = assess_fit(at, cols, items, ll, int(order[0]), seen)
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
     d = _derived(at)
-    hyps = tuple(_hypothesis(r + 1, at, int(i), float(post[i]), float(ll[i]), f, items, seen[:, i], d)
-                 for r, i in enumerate(best))
+    hyps = tuple(_hypothesis(r + 1, at, members, float(gp), ll, f, items, seen, d)
+                 for r, (members, gp) in enumerate(leading_groups(lp, post, d.group, max(top, 1))))
     segs = anatomy().segments
     names = d.pattern_names
     sums = np.bincount(d.pattern_code, weights=post, minlength=len(names))
@@ -291,6 +306,7 @@ class _Derived:
     likely: np.ndarray  # (items, n) index of the most likely value
     pattern_names: tuple[str, ...]
     pattern_code: np.ndarray  # (n,) index into pattern_names
+    group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
 
 
 _DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
@@ -301,9 +317,49 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     if hit is not None and hit[0] is at:
         return hit[1]
     names, code = np.unique(at.pattern_of, return_inverse=True)
-    d = _Derived(at.likely, tuple(str(n) for n in names), code)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, same_exam_groups(at.likely))
     _DERIVED[id(at)] = (at, d)
     return d
+
+
+def exam_groups(at: atlas_mod.Atlas) -> np.ndarray:
+    """The atlas' same-exam group number per candidate (cached with the atlas)."""
+    return _derived(at).group
+
+
+def same_exam_groups(likely: np.ndarray) -> np.ndarray:
+    """(n,) group number per candidate: equal numbers for equal columns of `likely` (items, n), that is for
+    candidates predicting the same bedside exam. Numbers are dense from 0."""
+    rows = np.ascontiguousarray(likely.T)
+    keys = rows.view(np.dtype((np.void, rows.shape[1] * rows.itemsize))).ravel()
+    _, group = np.unique(keys, return_inverse=True)
+    return group.ravel()
+
+
+def leading_groups(score: np.ndarray, post: np.ndarray, group: np.ndarray, n: int
+                   ) -> list[tuple[np.ndarray, float]]:
+    """The n most probable same-exam groups: (members best first, group probability), most probable first.
+
+    A group's probability is the sum of its members' posteriors `post`; groups too improbable to register in
+    float64 come after, ordered by their best member's `score` (log posterior, unnormalised)."""
+    mass = np.bincount(group, weights=post)
+    live = np.flatnonzero(mass > 0)
+    if len(live) > n:
+        live = live[np.argpartition(-mass[live], n - 1)[:n]]
+    order = live[np.lexsort((live, -mass[live]))].tolist()
+    if len(order) < n:  # the rest by their best member, best first (a stable sort keeps ties in index order)
+        for i in np.argsort(-score, kind="stable"):
+            g = int(group[i])
+            if mass[g] == 0 and g not in order:
+                order.append(g)
+                if len(order) == n:
+                    break
+    out = []
+    for g in order:
+        members = np.flatnonzero(group == g)
+        members = members[np.lexsort((members, -score[members]))]
+        out.append((members, float(mass[g])))
+    return out
 
 
 def _leading(score: np.ndarray, n: int) -> np.ndarray:
@@ -316,13 +372,16 @@ def _leading(score: np.ndarray, n: int) -> np.ndarray:
     return part[np.lexsort((part, -score[part]))]
 
 
-def _hypothesis(rank_no, at, i, prob, ll, f: Findings, items: list[tuple], seen: np.ndarray, d: _Derived
-                ) -> Hypothesis:
-    """Hypothesis i in words; `seen` holds its log-probability of the recorded value of each of `items`."""
+def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, f: Findings, items: list[tuple],
+                seen: np.ndarray, d: _Derived) -> Hypothesis:
+    """The same-exam group `members` (best first) in words, told by its best member i; `seen[:, i]` holds i's
+    log-probability of the recorded value of each of `items`, `ll[i]` its log-likelihood."""
+    i = int(members[0])
     lesion = at.lesion(i)
+    others = tuple(at.lesion(int(j)) for j in listed(at, members)[1:])
     agree, conflict = [], []
     index = at.item_index
-    for key, pe in zip(items, np.exp(seen)):
+    for key, pe in zip(items, np.exp(seen[:, i])):
         entered = f.items[key]
         pv = item_values(key)[int(d.likely[index[key], i])]
         if pe < 0.2:
@@ -333,8 +392,41 @@ def _hypothesis(rank_no, at, i, prob, ll, f: Findings, items: list[tuple], seen:
     conflicts = _describe(conflict, conflicts=True)
     summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
     summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
-    return Hypothesis(rank_no, lesion, prob, ll, vertebral_levels(lesion), tuple(explains[:12]),
-                      tuple(conflicts[:12]), summary)
+    if others:
+        summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
+        summary += f" and {len(members) - 3} more" if len(members) > 3 else ""
+    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *others)])  # = group_levels(at, members)
+    return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
+                      summary, others, len(members) - 1)
+
+
+def listed(at, members: np.ndarray) -> np.ndarray:
+    """The members of a same-exam group (best first) that a hypothesis names: the best, then the best of each
+    other pattern (a conus lesion beside a cauda equina one matters more than a third cauda variant), then the
+    next best, SAME_EXAM_SHOWN besides the best at most."""
+    pats = at.pattern_of[members]
+    _, first = np.unique(pats, return_index=True)
+    firsts = set(first.tolist()) | {0}
+    order = sorted(range(len(members)), key=lambda k: (k not in firsts, k))
+    return members[order[:1 + SAME_EXAM_SHOWN]]
+
+
+def group_levels(at, members: np.ndarray) -> tuple[str, ...]:
+    """Vertebral levels to image for a same-exam group: those of its best member and the others listed with it."""
+    return _merge_levels([vertebral_levels(at.lesion(int(j))) for j in listed(at, members)])
+
+
+_SPINE = [f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)] + \
+    ["S1", "sacrum"]
+
+
+def _merge_levels(lists: list[tuple[str, ...]]) -> tuple[str, ...]:
+    """The union of several lesions' vertebral levels, head to tail (a disc level 'L4-L5' after 'L4')."""
+    seen = list(dict.fromkeys(v for levels in lists for v in levels))
+    if len(lists) == 1:
+        return tuple(seen)
+    return tuple(sorted(seen, key=lambda v: (_SPINE.index(v.split("-")[0]) if v.split("-")[0] in _SPINE
+                                             else len(_SPINE), "-" in v)))
 
 
 def _abnormal(key, value) -> bool:

@@ -49,6 +49,16 @@ def test_opens_on_demo_with_ranking_and_pictures(app):
     assert h.lesion.side == "left" and h.lesion.top.startswith("T")
 
 
+def test_same_exam_lesions_are_named_with_their_hypothesis(app):
+    """The demo's leader is one hypothesis for two lesions with the same predicted exam (a hemisection and a lateral
+    compression at T6): the list line and the facts name the other one, so the imaging covers both."""
+    h = app.ranking.hypotheses[0]
+    assert h.same_exam
+    other = h.same_exam[0].describe()
+    assert "same predicted exam" in app.facts.value and other in app.facts.value
+    assert other in app.rows[0][2].value
+
+
 def test_cautions_always_present(app):
     text = app.caution_box.value
     for c in cautions.GENERAL:
