@@ -49,9 +49,7 @@ def _print_ranking(r, out=sys.stdout):
         bar = "#" * max(1, round(h.probability * 30)) if h.probability >= 0.005 else "."
         w(f"{h.rank:>2}. {h.lesion.describe():<48} {h.probability:6.1%} {bar}\n")
         if h.same_exam:
-            more = h.same_exam_count - len(h.same_exam)
-            w(f"    same predicted exam: {'; '.join(o.describe() for o in h.same_exam)}"
-              f"{f' and {more} more' if more else ''} (no bedside test separates them; imaging does)\n")
+            w(f"    same predicted exam: {h.same_exam_text()} (no bedside test separates them; imaging does)\n")
         w(f"    image vertebrae: {', '.join(h.vertebral_levels)}\n")
         if h.rank <= 3:
             for e in h.explains[:6]:

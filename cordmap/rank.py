@@ -42,8 +42,7 @@ def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
     (small thoracic lesions that no bedside test detects, say), and a uniform prior would give that exam hundreds
     of times the weight of a single root's, an artefact of how densely the grid samples it."""
     extent = (at.bottom - at.top + 1).astype(np.float32)
-    group = exam_groups(at)
-    return (-0.04 * extent - 0.5 * at.area - np.log(np.bincount(group)[group])).astype(np.float32)
+    return (-0.04 * extent - 0.5 * at.area - _derived(at).log_group_size).astype(np.float32)
 
 
 @dataclass(frozen=True)
@@ -64,6 +63,11 @@ class Hypothesis:
 
     def predicted(self) -> Findings:
         return simulate(self.lesion)
+
+    def same_exam_text(self) -> str:
+        """'a; b and 3 more': the other lesions with this exam, for one line of text ('' when there are none)."""
+        more = self.same_exam_count - len(self.same_exam)
+        return "; ".join(o.describe() for o in self.same_exam) + (f" and {more} more" if more else "")
 
     def to_dict(self) -> dict:
         lz = self.lesion
@@ -307,6 +311,7 @@ class _Derived:
     pattern_names: tuple[str, ...]
     pattern_code: np.ndarray  # (n,) index into pattern_names
     group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
+    log_group_size: np.ndarray  # (n,) log of the number of candidates in each candidate's group
 
 
 _DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
@@ -317,7 +322,8 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     if hit is not None and hit[0] is at:
         return hit[1]
     names, code = np.unique(at.pattern_of, return_inverse=True)
-    d = _Derived(at.likely, tuple(str(n) for n in names), code, same_exam_groups(at.likely))
+    group = same_exam_groups(at.likely)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, np.log(np.bincount(group)[group]))
     _DERIVED[id(at)] = (at, d)
     return d
 
@@ -378,7 +384,7 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, f
     log-probability of the recorded value of each of `items`, `ll[i]` its log-likelihood."""
     i = int(members[0])
     lesion = at.lesion(i)
-    others = tuple(at.lesion(int(j)) for j in listed(at, members)[1:])
+    others = tuple(at.lesion(int(j)) for j in listed(at, members)[1:])  # the shown ones, as group_levels takes
     agree, conflict = [], []
     index = at.item_index
     for key, pe in zip(items, np.exp(seen[:, i])):
@@ -395,7 +401,7 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, f
     if others:
         summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
         summary += f" and {len(members) - 3} more" if len(members) > 3 else ""
-    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *others)])  # = group_levels(at, members)
+    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *others)])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
                       summary, others, len(members) - 1)
 

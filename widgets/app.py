@@ -658,9 +658,7 @@ class ExamApp:
         levels = ", ".join(h.vertebral_levels) or "—"
         lines = [f"<b>#{h.rank} {esc(les.describe())}</b>: image the spine at <b>{esc(levels)}</b>"]
         if h.same_exam:
-            more = h.same_exam_count - len(h.same_exam)
-            lines.append(f"same predicted exam (imaging tells them apart): "
-                         f"{esc('; '.join(o.describe() for o in h.same_exam))}{f' and {more} more' if more else ''}")
+            lines.append(f"same predicted exam (imaging tells them apart): {esc(h.same_exam_text())}")
         if h.explains:
             lines.append(f"explains: {esc(', '.join(h.explains[:6]))}")
         if h.conflicts:
