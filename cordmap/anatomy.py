@@ -111,3 +111,26 @@ def _vertebrae(a: Anatomy) -> dict[str, str]:
 def _muscle_names(a: Anatomy) -> dict[str, str]:
     t = a.muscle_table
     return dict(zip(t["myotome"], t["muscle"]))
+
+
+@cache
+def family_weights() -> dict[str, float]:
+    """Relative prior weight of each lesion family (`data/priors.csv`); every pattern must have a positive one."""
+    from .lesions import PATTERNS
+
+    t = _table("priors.csv", ("family", "weight"))
+    out = {}
+    for r in t.itertuples():
+        if r.family not in PATTERNS:
+            raise bad_value("cordmap/data/priors.csv family", r.family, [*PATTERNS], "pattern")
+        try:
+            w = float(r.weight)
+        except ValueError:
+            w = -1.0
+        if not w > 0:
+            raise CordmapError(f"cordmap/data/priors.csv: family {r.family!r} needs a weight > 0, got {r.weight!r}")
+        out[r.family] = w
+    missing = [p for p in PATTERNS if p not in out]
+    if missing:
+        raise CordmapError(f"cordmap/data/priors.csv: no weight for {missing}")
+    return out

@@ -16,6 +16,7 @@ from .errors import CordmapError, bad_value
 from .model import S, Section, dorsal_horn_axis
 
 SIDE_VALUES = ("left", "right", "both")
+NORMAL = "normal"
 
 
 @dataclass(frozen=True)
@@ -249,6 +250,10 @@ def _root(sec, xs, side, p):
     return _root_part(sec, xs > 0, p["severity"])
 
 
+def _normal(sec, xs, side, p):
+    return np.zeros(sec.structure.shape, dtype=bool)
+
+
 _DEGENERATION = Param("severity", 1.0, (0.35, 0.65, 1.0), 0.05, 1.0,
                       "share of the territory's fibres lost, evenly over every body segment (diffuse degeneration)")
 _DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,
@@ -309,6 +314,9 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("root", "one dorsal and ventral root (radiculopathy)", ("left", "right"), _root,
             (Param("severity", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
             tops=("C2", "S5"), single=True),
+    # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
+    Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,
+            tops=("C1", "C1"), single=True),
 )}
 
 CUSTOM = "custom"
@@ -398,6 +406,8 @@ class Lesion:
         return anatomy().index(self.bottom)
 
     def describe(self) -> str:
+        if self.pattern == NORMAL:
+            return "no lesion (normal cord)"
         p = ", ".join(f"{k} {v:g}" for k, v in self.all_params().items())
         where = self.top if self.top == self.bottom else f"{self.top}-{self.bottom}"
         side = "" if self.side == "both" else f"{self.side} "

@@ -19,15 +19,25 @@ SENSORY_CONFUSION = np.array([
     [0.14, 0.72, 0.14],
     [0.02, 0.08, 0.90],
 ])
-# Share of the probability taken from each neighbouring dermatome's prediction: a sensory boundary is often
-# recorded one dermatome off (from memory: ISNCSCI training material stresses level errors of one segment).
-# 0.2 measured best over 0.12-0.25 on the seeded noise and round-trip checks of tests/test_rank.py (noise top-3
-# 88% at 0.12, 90.5% at 0.2; round trip falls below 99% at 0.22 and above).
-BOUNDARY_SHIFT = 0.2
+# Where the examiner puts a sensory boundary relative to where the lesion puts it, in dermatomes (positive: the
+# recorded boundary lies caudal to the predicted one). Levels are often charted one or two dermatomes low (the
+# boundary is found moving up from the numb zone, and an extrinsic compression's level lies below the lesion), less
+# often one high (from memory: ISNCSCI training material stresses level errors of one segment; false-localizing
+# levels below a compression, shared check values section 5). Judgement.
+BOUNDARY_SHIFT = {-1: 0.12, 0: 0.58, 1: 0.18, 2: 0.12}
+# Modalities that travel in one pathway: charted at the same dermatome they are one look at that pathway, not two
+# (pinprick and temperature in the spinothalamic tract; vibration and joint position in the dorsal columns). Each
+# such item weighs 1 / (number of its pathway's modalities charted there). Light touch, carried by both, stands alone.
+PATHWAYS = {"pinprick": "spinothalamic", "temperature": "spinothalamic", "vibration": "dorsal_column",
+            "joint_position": "dorsal_column", "light_touch": "touch"}
 # MRC grade noise: recorded grade ~ predicted expected grade + Gaussian with this SD (grades), plus a floor.
 # Judgement: inter-rater agreement within one grade is usual for manual muscle testing (from memory).
 MOTOR_SD = 0.75
 FLOOR = 0.01
+# Incomplete lesions are the rule at the bedside: below a lesion predicted to paralyse a muscle, the recorded grade
+# is often anywhere between the prediction and normal. This share of the probability is spread evenly over the
+# grades from the predicted one up to 4 (judgement; common clinical practice, no source).
+MOTOR_PARTIAL = 0.3
 # Tendon reflexes are ordinal (absent, reduced, normal, brisk): P(recorded | true) falls off with distance.
 REFLEX_ORDINAL = np.array([0.78, 0.17, 0.04, 0.01])
 # Plantar (flexor, extensor, mute): an equivocal response is often recorded as mute (common clinical practice).
@@ -38,22 +48,31 @@ PLANTAR_CONFUSION = np.array([
 ])
 # Yes/no signs and present/absent reflexes: recorded correctly with this probability (judgement).
 BINARY_CORRECT = 0.9
+# Signs an examiner rarely records wrongly and that localize on their own: a weak diaphragm, a Horner sign, the
+# sacral signs and the bladder (common clinical practice, no source).
+DECISIVE_CORRECT = 0.96
+DECISIVE_SIGNS = ("diaphragm", "horner", "voluntary_anal_contraction", "deep_anal_pressure", "bladder")
 
 
 def _sensory_block(loss: np.ndarray) -> np.ndarray:
-    """(c, 28) loss -> (c, 28, 3) P(recorded grade) with one-dermatome boundary tolerance."""
+    """(c, 28) loss -> (c, 28, 3) P(recorded grade), the boundary moved by BOUNDARY_SHIFT (edges repeat)."""
     lo, hi = SENSORY_THRESHOLDS
     g = np.where(loss < lo, 2, np.where(loss < hi, 1, 0))
     p = SENSORY_CONFUSION[g]
-    up = np.concatenate([p[:, :1], p[:, :-1]], axis=1)
-    down = np.concatenate([p[:, 1:], p[:, -1:]], axis=1)
-    return (1 - 2 * BOUNDARY_SHIFT) * p + BOUNDARY_SHIFT * (up + down)
+    n = p.shape[1]
+    out = np.zeros_like(p)
+    for shift, w in BOUNDARY_SHIFT.items():  # recorded at d shows what is predicted at d - shift
+        out += w * p[:, np.clip(np.arange(n) - shift, 0, n - 1)]
+    return out
 
 
 def _motor_block(grade: np.ndarray) -> np.ndarray:
     k = np.arange(6)
     p = np.exp(-0.5 * ((k - grade[..., None]) / MOTOR_SD) ** 2) + FLOOR
-    return p / p.sum(-1, keepdims=True)
+    p = p / p.sum(-1, keepdims=True)
+    spared = (k >= np.floor(grade[..., None] + 0.5)) & (k <= 4)  # from the predicted grade up to 4
+    share = spared / np.maximum(spared.sum(-1, keepdims=True), 1)
+    return (1 - MOTOR_PARTIAL) * p + MOTOR_PARTIAL * np.where(spared.any(-1, keepdims=True), share, p)
 
 
 def _categorical(idx: np.ndarray, confusion: np.ndarray) -> np.ndarray:
@@ -66,9 +85,24 @@ def _ordinal_confusion(n: int) -> np.ndarray:
     return m / m.sum(1, keepdims=True)
 
 
-def _binary_confusion() -> np.ndarray:
-    c = BINARY_CORRECT
+def _binary_confusion(c: float = BINARY_CORRECT) -> np.ndarray:
     return np.array([[c, 1 - c], [1 - c, c]])
+
+
+def _three_way_confusion(c: float) -> np.ndarray:
+    return np.full((3, 3), (1 - c) / 2) + np.eye(3) * (c - (1 - c) / 2)
+
+
+def item_weights(keys) -> np.ndarray:
+    """How much each recorded item counts (1 = one independent observation): sensory items of one pathway charted
+    at the same side and dermatome share one observation (PATHWAYS); every other item counts once."""
+    count: dict[tuple, int] = {}
+    for k in keys:
+        if k[0] == "sensory":
+            g = (PATHWAYS[k[1]], k[2], k[3])
+            count[g] = count.get(g, 0) + 1
+    return np.array([1.0 / count[(PATHWAYS[k[1]], k[2], k[3])] if k[0] == "sensory" else 1.0 for k in keys],
+                    dtype=np.float32)
 
 
 def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarray:
@@ -95,8 +129,7 @@ def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarr
         else:
             idx = r.signs[(key[1], key[2])]
             nv = len(item_values(key))
-            conf = binary if nv == 2 else np.full((3, 3), (1 - BINARY_CORRECT) / 2) + np.eye(3) * (
-                BINARY_CORRECT - (1 - BINARY_CORRECT) / 2)
-            p = _categorical(idx, conf)
+            c = DECISIVE_CORRECT if key[1] in DECISIVE_SIGNS else BINARY_CORRECT
+            p = _categorical(idx, _binary_confusion(c) if nv == 2 else _three_way_confusion(c))
         out[:, o0:o1] = np.log(p)
     return out

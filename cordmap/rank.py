@@ -16,9 +16,10 @@ import pandas as pd
 
 from . import atlas as atlas_mod
 from . import cautions as C
-from .anatomy import MODALITIES, SIDES, anatomy
+from . import observation
+from .anatomy import MODALITIES, SIDES, anatomy, family_weights
 from .findings import Findings, item_label, item_values, parse
-from .lesions import Lesion
+from .lesions import NORMAL, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
@@ -30,19 +31,24 @@ POOR_FIT_NATS = 8.0
 # ...or when adding a second lesion to the best one improves the fit by more than this (nats): random exam errors
 # rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
 SECOND_LESION_GAIN = 10.0
+PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as the first lesion of a pair
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
 
 
 def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
-    """Log prior: every distinct predicted exam equally likely a priori, its share split evenly among the
-    candidates that predict it, with a mild preference for shorter and smaller lesions (at most ~1.5 nats apart).
+    """Log prior of every candidate, built from the clinical hypotheses down:
 
-    Split, not uniform per candidate: the atlas holds up to hundreds of candidates with the same predicted exam
-    (small thoracic lesions that no bedside test detects, say), and a uniform prior would give that exam hundreds
-    of times the weight of a single root's, an artefact of how densely the grid samples it."""
+    * each family (pattern) has a prior weight (`data/priors.csv`: radiculopathy far more common than a
+      hemisection, say), spread evenly over its hypotheses (side and rostral segment);
+    * a hypothesis' share is split evenly over the distinct bedside exams its candidates predict, and each exam's
+      share evenly among the candidates predicting it, with a mild preference for shorter and smaller lesions
+      (at most ~1.5 nats apart).
+
+    Split, not uniform per candidate: the atlas holds up to hundreds of variants (parameters, extents) for one
+    hypothesis, and a uniform prior would weigh a hypothesis by how densely the grid samples it."""
     extent = (at.bottom - at.top + 1).astype(np.float32)
-    return (-0.04 * extent - 0.5 * at.area - _derived(at).log_group_size).astype(np.float32)
+    return (_derived(at).log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
 
 
 @dataclass(frozen=True)
@@ -55,9 +61,11 @@ class Hypothesis:
     explains: tuple[str, ...]
     conflicts: tuple[str, ...]
     summary: str
-    # Other candidates whose predicted bedside exam is the same as `lesion`'s on every item the model knows (the
-    # most probable first, at most SAME_EXAM_SHOWN), and how many there are in all. No bedside test separates
-    # them; imaging does. `probability` is the mass of the whole group; `vertebral_levels` covers the listed ones.
+    # A hypothesis is one family, side and rostral segment (`lesion` is its most probable variant: parameters and
+    # extent); `probability` is the mass of all its variants. `same_exam`: lesions of other hypotheses whose
+    # predicted bedside exam is the same as `lesion`'s on every item the model knows (the most probable first, at
+    # most SAME_EXAM_SHOWN), and how many there are in all. No bedside test separates them; imaging does.
+    # `vertebral_levels` covers the lesion and the listed ones.
     same_exam: tuple[Lesion, ...] = ()
     same_exam_count: int = 0
 
@@ -142,11 +150,17 @@ def observed_columns(f: Findings, at: atlas_mod.Atlas) -> tuple[np.ndarray, list
     return np.array(cols, dtype=np.int64), items
 
 
+def evidence(f: Findings, at: atlas_mod.Atlas) -> tuple[np.ndarray, list[tuple], np.ndarray]:
+    """`observed_columns` with how much each recorded item counts (`observation.item_weights`)."""
+    cols, items = observed_columns(f, at)
+    return cols, items, observation.item_weights(items)
+
+
 def log_likelihood(f: Findings, at: atlas_mod.Atlas) -> np.ndarray:
-    cols, _ = observed_columns(f, at)
+    cols, _, w = evidence(f, at)
     if len(cols) == 0:
         return np.zeros(len(at), dtype=np.float32)
-    return at.logp[cols].sum(axis=0, dtype=np.float32)
+    return w @ at.logp[cols]
 
 
 def _softmax(x: np.ndarray) -> np.ndarray:
@@ -154,74 +168,91 @@ def _softmax(x: np.ndarray) -> np.ndarray:
     return e / e.sum()
 
 
-def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple]) -> tuple[float, float]:
-    """Expected log-likelihood of candidate i on its own simulated findings over `items`, and its variance."""
+def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) -> tuple[float, float]:
+    """Expected (weighted) log-likelihood of candidate i on its own simulated findings over `items`, and its
+    variance."""
     lp = at.logp[:, i].astype(np.float64)
     p = np.exp(lp)
     starts = at.offsets[:-1]
     m = np.add.reduceat(p * lp, starts)  # expected log-probability per item
     m2 = np.add.reduceat(p * lp * lp, starts)
     sel = np.array([at.item_index[k] for k in items])
-    return float(m[sel].sum()), float((m2[sel] - m[sel] ** 2).sum())
+    return float(w @ m[sel]), float((w * w) @ (m2[sel] - m[sel] ** 2))
 
 
-
-
-def second_lesion(at, b: int, cols: np.ndarray, items: list[tuple], lp: np.ndarray | None = None
-                  ) -> tuple[int, float]:
-    """The candidate that, added to candidate b, best improves the fit, and the gain in nats.
-
-    Two lesions together predict, item by item, the more abnormal of their two predictions. `lp` is
-    ``at.logp[cols]`` when the caller already has it.
-    """
+def best_pair(at, items: list[tuple], seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
+              ) -> tuple[int, int, float]:
+    """The pair of lesions that best explains the exam: the first among `firsts` (candidate indices), the second
+    any candidate. Two lesions together predict, item by item, the more abnormal of their two predictions, so
+    adding j to i changes the fit by the (weighted) log-probabilities `seen` of the items where j is more
+    abnormal. Returns (i, j, log-likelihood of the pair)."""
     rows = np.array([at.item_index[k] for k in items])
-    lp = at.logp[cols] if lp is None else lp  # (examined, candidates)
-    abn = at.abnormal[rows]
-    worse = (abn > abn[:, b:b + 1]).astype(np.float32)
-    gain = np.einsum("ij,ij->j", lp, worse) - lp[:, b] @ worse
-    c = int(gain.argmax())
-    return c, float(gain[c])
+    abn = at.abnormal[rows]  # (examined, candidates)
+    best = (int(firsts[0]), int(firsts[0]), float(ll[firsts[0]]))
+    for i in firsts:
+        worse = abn > abn[:, i:i + 1]
+        gain = np.einsum("ij,ij->j", seen - seen[:, i:i + 1], worse, dtype=np.float32)
+        j = int(gain.argmax())
+        if ll[i] + gain[j] > best[2]:
+            best = (int(i), j, float(ll[i] + gain[j]))
+    return best
 
 
-def assess_fit(at, cols: np.ndarray, items: list[tuple], ll: np.ndarray, b: int, lp: np.ndarray | None = None
+def assess_fit(at, items: list[tuple], w: np.ndarray, seen: np.ndarray, ll: np.ndarray, leaders: np.ndarray
                ) -> tuple[str, int, float]:
-    """'good' or 'poor' for the best candidate b, with the best second lesion and its gain in nats."""
-    mean, var = _self_fit(at, b, items)
+    """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
+    what the pair gains in (weighted) nats over the best single lesion. `seen` holds the weighted log-probability
+    of each recorded value (examined x candidates); `leaders` the best member of each leading hypothesis."""
+    b = int(leaders[0])
+    mean, var = _self_fit(at, b, items, w)
     gap = mean - float(ll[b])
-    second, gain = second_lesion(at, b, cols, items, lp)
+    first, second, pair = best_pair(at, items, seen, ll, leaders[:PAIR_FIRSTS])
+    gain = pair - float(ll[b])
     poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
-    return ("poor" if poor else "good"), second, gain
+    return ("poor" if poor else "good"), (second if first == b else first), gain
 
 
 def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray] | None = None,
          next_tests: int = 5, classify: bool = True) -> Ranking:
-    """Rank every candidate of the atlas against `findings` (a Findings, dict, JSON string or path)."""
+    """Rank every candidate of the atlas against `findings` (a Findings, dict, JSON string or path).
+
+    `fit` is 'empty' when nothing was examined (no hypotheses then), 'normal' when no lesion explains the
+    findings better than a normal cord, 'poor' when no single lesion explains them well (`advice` says why), and
+    'good' otherwise."""
     f = parse(findings)
     at = atlas_mod.get(f.phase)
-    cols, items = observed_columns(f, at)
-    seen = at.logp[cols]  # (examined, candidates): the log-probability of each recorded value
+    cols, items, w = evidence(f, at)
+    seen = at.logp[cols] * w[:, None]  # (examined, candidates): weighted log-probability of each recorded value
     ll = seen.sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
-    order = _leading(lp, max(top, NEXT_TEST_POOL, 1))
+    d = _derived(at)
+    leading = leading_groups(lp, post, d.cell, max(top, PAIR_FIRSTS, 1))
     fit, advice = "good", ""
-    if items:
-        fit, second, gain = assess_fit(at, cols, items, ll, int(order[0]), seen)
+    if not items:
+        fit, advice = "empty", "Nothing was entered: record at least one finding to rank lesions."
+    elif at.pattern_of[leading[0][0][0]] == NORMAL:
+        fit = "normal"
+        advice = ("No lesion explains these findings better than a normal cord: nothing to image on these "
+                  "findings alone; re-examine if the story suggests a cord or root lesion.")
+    else:
+        fit, second, gain = assess_fit(at, items, w, seen, ll, np.array([m[0] for m, _ in leading]))
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
-    d = _derived(at)
-    hyps = tuple(_hypothesis(r + 1, at, members, float(gp), ll, f, items, seen, d)
-                 for r, (members, gp) in enumerate(leading_groups(lp, post, d.group, max(top, 1))))
+    hyps = () if fit == "empty" else tuple(
+        _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, seen, d)
+        for r, (members, gp) in enumerate(leading[:max(top, 1)]))
     segs = anatomy().segments
     names = d.pattern_names
     sums = np.bincount(d.pattern_code, weights=post, minlength=len(names))
     pm = {name: float(sums[j]) for j, name in enumerate(names)}
-    tops = np.bincount(at.top, weights=post, minlength=30)
+    tops = np.bincount(at.top, weights=np.where(at.pattern_of == NORMAL, 0.0, post), minlength=30)
     lm = {segs[i]: float(tops[i]) for i in range(30) if tops[i] > 1e-4}
     pm = dict(sorted(pm.items(), key=lambda kv: -kv[1]))
+    order = _leading(lp, max(top, NEXT_TEST_POOL, 1))
     tests = suggest_tests(f, at, post, order, next_tests) if next_tests else ()
     cls = None
     if classify:
@@ -311,7 +342,8 @@ class _Derived:
     pattern_names: tuple[str, ...]
     pattern_code: np.ndarray  # (n,) index into pattern_names
     group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
-    log_group_size: np.ndarray  # (n,) log of the number of candidates in each candidate's group
+    cell: np.ndarray  # (n,) hypothesis number: candidates of one pattern, side and rostral segment share it
+    log_prior: np.ndarray  # (n,) log prior before the size preference (see size_prior)
 
 
 _DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
@@ -322,8 +354,25 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     if hit is not None and hit[0] is at:
         return hit[1]
     names, code = np.unique(at.pattern_of, return_inverse=True)
+    code = code.ravel()
     group = same_exam_groups(at.likely)
-    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, np.log(np.bincount(group)[group]))
+    sides = np.array([v.side for v in at.variants])[at.variant]
+    _, cell = np.unique(np.stack([code, np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
+                        return_inverse=True)
+    cell = cell.ravel()
+    weights = family_weights()
+    fam_w = np.array([weights[str(n)] for n in names])
+    cell_code = np.zeros(cell.max() + 1, dtype=np.int64)
+    cell_code[cell] = code
+    cells_per_family = np.bincount(cell_code, minlength=len(names))
+    _, sub = np.unique(np.stack([cell, group]), axis=1, return_inverse=True)  # (hypothesis, exam) pairs
+    sub = sub.ravel()
+    sub_cell = np.zeros(sub.max() + 1, dtype=np.int64)
+    sub_cell[sub] = cell
+    exams_per_cell = np.bincount(sub_cell)
+    log_prior = (np.log(fam_w[code] / fam_w.sum()) - np.log(cells_per_family[code]) - np.log(exams_per_cell[cell])
+                 - np.log(np.bincount(sub)[sub]))
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, log_prior)
     _DERIVED[id(at)] = (at, d)
     return d
 
@@ -378,19 +427,21 @@ def _leading(score: np.ndarray, n: int) -> np.ndarray:
     return part[np.lexsort((part, -score[part]))]
 
 
-def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, f: Findings, items: list[tuple],
-                seen: np.ndarray, d: _Derived) -> Hypothesis:
-    """The same-exam group `members` (best first) in words, told by its best member i; `seen[:, i]` holds i's
-    log-probability of the recorded value of each of `items`, `ll[i]` its log-likelihood."""
+def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, score: np.ndarray, f: Findings,
+                items: list[tuple], seen: np.ndarray, d: _Derived) -> Hypothesis:
+    """The hypothesis `members` (one pattern, side and rostral segment; best first) in words, told by its best
+    member i; `seen[:, i]` holds i's weighted log-probability of the recorded value of each of `items`, `ll[i]`
+    its log-likelihood, `score` every candidate's log posterior (unnormalised)."""
     i = int(members[0])
     lesion = at.lesion(i)
-    others = tuple(at.lesion(int(j)) for j in listed(at, members)[1:])  # the shown ones, as group_levels takes
+    same = same_exam(at, i, score)
+    others = tuple(at.lesion(int(j)) for j in listed(at, same))
     agree, conflict = [], []
     index = at.item_index
-    for key, pe in zip(items, np.exp(seen[:, i])):
+    for key, c in zip(items, at.logp[observed_columns_of(f, at, items), i]):
         entered = f.items[key]
         pv = item_values(key)[int(d.likely[index[key], i])]
-        if pe < 0.2:
+        if np.exp(c) < 0.2:
             conflict.append((key, entered, pv))
         elif pv == entered and _abnormal(key, entered):
             agree.append((key, entered, pv))
@@ -400,26 +451,39 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, f
     summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
     if others:
         summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
-        summary += f" and {len(members) - 3} more" if len(members) > 3 else ""
+        summary += f" and {len(same) - 2} more" if len(same) > 2 else ""
     levels = _merge_levels([vertebral_levels(x) for x in (lesion, *others)])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(members) - 1)
+                      summary, others, len(same))
+
+
+def observed_columns_of(f: Findings, at, items: list[tuple]) -> np.ndarray:
+    return np.array([int(at.offsets[at.item_index[k]]) + item_values(k).index(f.items[k]) for k in items],
+                    dtype=np.int64)
+
+
+def same_exam(at, i: int, score: np.ndarray) -> np.ndarray:
+    """Candidates of other hypotheses predicting exactly candidate i's bedside exam, best first (none for the
+    normal cord: the lesions too small to show at the bedside are not worth naming)."""
+    d = _derived(at)
+    if at.pattern_of[i] == NORMAL:
+        return np.zeros(0, dtype=np.int64)
+    m = np.flatnonzero((d.group == d.group[i]) & (d.cell != d.cell[i]))
+    return m[np.lexsort((m, -score[m]))]
 
 
 def listed(at, members: np.ndarray) -> np.ndarray:
-    """The members of a same-exam group (best first) that a hypothesis names: the best, then the best of each
-    other pattern (a conus lesion beside a cauda equina one matters more than a third cauda variant), then the
-    next best, SAME_EXAM_SHOWN besides the best at most."""
+    """Of `members` (best first), the ones a hypothesis names: the best of each pattern first (a conus lesion
+    beside a cauda equina one matters more than a third cauda variant), then the next best; SAME_EXAM_SHOWN at
+    most, one per hypothesis (pattern, side, rostral segment)."""
+    d = _derived(at)
+    _, one = np.unique(d.cell[members], return_index=True)
+    members = members[np.sort(one)]
     pats = at.pattern_of[members]
     _, first = np.unique(pats, return_index=True)
-    firsts = set(first.tolist()) | {0}
+    firsts = set(first.tolist())
     order = sorted(range(len(members)), key=lambda k: (k not in firsts, k))
-    return members[order[:1 + SAME_EXAM_SHOWN]]
-
-
-def group_levels(at, members: np.ndarray) -> tuple[str, ...]:
-    """Vertebral levels to image for a same-exam group: those of its best member and the others listed with it."""
-    return _merge_levels([vertebral_levels(at.lesion(int(j))) for j in listed(at, members)])
+    return members[order[:SAME_EXAM_SHOWN]]
 
 
 _SPINE = [f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)] + \
@@ -553,8 +617,8 @@ def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
     """(exams, candidates) log posterior (unnormalised) for many exams with one matrix product."""
     onehot = np.zeros((len(exams), at.logp.shape[0]), dtype=np.float32)
     for e, f in enumerate(exams):
-        cols, _ = observed_columns(f, at)
-        onehot[e, cols] = 1.0
+        cols, _, w = evidence(f, at)
+        onehot[e, cols] = w
     return onehot @ at.logp + size_prior(at)[None, :]
 
 
