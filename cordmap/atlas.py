@@ -130,7 +130,8 @@ def enumerate_candidates(vs: tuple[Variant, ...]) -> tuple[np.ndarray, np.ndarra
     var, top, bottom = [], [], []
     for vi, v in enumerate(vs):
         pat = PATTERNS[v.pattern]
-        lo, hi = a.index(pat.tops[0]), a.index(pat.tops[1])
+        first, last = pat.atlas_tops or pat.tops
+        lo, hi = a.index(first), a.index(last)
         for t in range(lo, hi + 1):
             if pat.bottom_fixed:
                 bots = [a.index(pat.bottom_fixed)]

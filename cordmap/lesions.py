@@ -40,6 +40,9 @@ class Pattern:
     bottom_fixed: str | None = None  # the caudal segment when the pattern fixes it
     max_extent: int = 30  # segments
     single: bool = False  # exactly one segment
+    # Rostral segments the ranker's atlas tries, when fewer than `tops` (a lesion given by hand may use all of
+    # `tops`): a lesion of the sacral cord is the conus pattern's, so the other cord patterns stop above it.
+    atlas_tops: tuple[str, str] | None = None
 
 
 _PER_SECTION: dict[tuple[str, int], tuple] = {}  # (what, id(section)) -> (section, array): pure, built once
@@ -254,6 +257,12 @@ def _normal(sec, xs, side, p):
     return np.zeros(sec.structure.shape, dtype=bool)
 
 
+# Incomplete lesions are the rule at the bedside (grade 2-4 weakness, impaired rather than absent sensation): a
+# focal pattern can destroy only a share of its territory, thinned evenly (`_thin`), so every tract it reaches
+# keeps some fibres (judgement; common clinical practice, no source). Along the extent the thinned losses combine,
+# so partial variants are enumerated over short extents only (atlas.PARTIAL_MAX_EXTENT).
+_INCOMPLETE = Param("severity", 1.0, (0.25, 0.5, 1.0), 0.05, 1.0,
+                    "share of the territory's fibres destroyed, evenly (1 = all: a complete lesion of that shape)")
 _DEGENERATION = Param("severity", 1.0, (0.35, 0.65, 1.0), 0.05, 1.0,
                       "share of the territory's fibres lost, evenly over every body segment (diffuse degeneration)")
 _DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,
@@ -276,33 +285,43 @@ _BACK_DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5, 0.6), 0.02
 # more: 99.06% of candidates ranked first without the cap, 99.15% with it; a cap of 10 gave 99.42% but only 16,655
 # candidates). A lesion given by hand may be longer.
 COMPRESSION_MAX_EXTENT = 20
+# Rostral segments the atlas tries for the cord patterns other than the conus: down to L5 (the sacral cord is the
+# conus medullaris; a lesion there is the conus pattern's, so two names do not split one picture).
+CORD_TOPS = ("C1", "L5")
 
 PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("complete", "the whole cross-section at every segment of the extent (transection, complete myelitis)",
-            ("both",), _complete),
-    Pattern("hemisection", "one half of the cord (Brown-Sequard syndrome)", ("left", "right"), _hemisection),
+            ("both",), _complete, (_INCOMPLETE,), atlas_tops=CORD_TOPS),
+    Pattern("hemisection", "one half of the cord (Brown-Sequard syndrome)", ("left", "right"), _hemisection,
+            (_INCOMPLETE,), atlas_tops=CORD_TOPS),
     Pattern("central", "around the central canal, growing outward with size (syrinx, central cord injury)",
             ("both",), _central,
             (Param("size", 0.3, (0.15, 0.22, 0.3, 0.4, 0.5, 0.6, 0.7), 0.05, 0.9,
-                   "radius of the damaged zone as a fraction of the cord's radius"),)),
+                   "radius of the damaged zone as a fraction of the cord's radius"), _INCOMPLETE),
+            atlas_tops=CORD_TOPS),
     Pattern("anterior", "the anterior spinal artery territory: ventral two-thirds, dorsal columns spared",
             ("both",), _anterior,
-            (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),)),
+            (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
+             _INCOMPLETE), atlas_tops=CORD_TOPS),
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
             ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),)),
     Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
             ("both",), _posterolateral, (_DEGENERATION,)),
     Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",
-            ("left", "right"), _lateral_compression, (_DEPTH,), max_extent=COMPRESSION_MAX_EXTENT),
+            ("left", "right"), _lateral_compression, (_DEPTH, _INCOMPLETE),
+            max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS),
     Pattern("anterior_compression", "extrinsic pressure from the front (disc, vertebral body), with depth",
-            ("both",), _anterior_compression, (_FRONT_DEPTH,), max_extent=COMPRESSION_MAX_EXTENT),
+            ("both",), _anterior_compression, (_FRONT_DEPTH, _INCOMPLETE),
+            max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS),
     Pattern("posterior_compression", "extrinsic pressure from behind (ligament, lamina, epidural mass), with depth",
-            ("both",), _posterior_compression, (_BACK_DEPTH,), max_extent=COMPRESSION_MAX_EXTENT),
+            ("both",), _posterior_compression, (_BACK_DEPTH, _INCOMPLETE),
+            max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS),
     Pattern("anterior_horn", "the ventral horn motor neurons alone (pure lower motor neuron)",
             ("left", "right", "both"), _anterior_horn),
     Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
             ("both",), _motor_neuron, (_DEGENERATION,)),
-    Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, tops=("L5", "S4"),
+    Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),
+            tops=("L5", "S4"),
             bottom_fixed="Co1"),
     Pattern("cauda_equina", "the lumbosacral roots below the conus, worse on one side", ("left", "right"),
             _cauda_equina,
@@ -417,7 +436,11 @@ class Lesion:
 def draw_mask(pattern: str, side: str, params: dict, sec: Section) -> np.ndarray:
     """The boolean mask of a named pattern on one section."""
     xs = sec.x if side != "left" else -sec.x
-    return PATTERNS[pattern].draw(sec, xs, side, params)
+    pat = PATTERNS[pattern]
+    mask = pat.draw(sec, xs, side, params)
+    if _INCOMPLETE in pat.params:
+        mask = _thin(sec, mask, params.get("severity", 1.0))
+    return mask
 
 
 def lesion_masks(lesion: Lesion, secs) -> np.ndarray:

@@ -17,7 +17,7 @@ from .forward import SENSORY_THRESHOLDS, Readout
 SENSORY_CONFUSION = np.array([
     [0.86, 0.11, 0.03],
     [0.14, 0.72, 0.14],
-    [0.02, 0.08, 0.90],
+    [0.02, 0.05, 0.93],
 ])
 # Where the examiner puts a sensory boundary relative to where the lesion puts it, in dermatomes (positive: the
 # recorded boundary lies caudal to the predicted one). Levels are often charted one or two dermatomes low (the
@@ -32,7 +32,7 @@ PATHWAYS = {"pinprick": "spinothalamic", "temperature": "spinothalamic", "vibrat
             "joint_position": "dorsal_column", "light_touch": "touch"}
 # MRC grade noise: recorded grade ~ predicted expected grade + Gaussian with this SD (grades), plus a floor.
 # Judgement: inter-rater agreement within one grade is usual for manual muscle testing (from memory).
-MOTOR_SD = 0.75
+MOTOR_SD = 0.6
 FLOOR = 0.01
 # Incomplete lesions are the rule at the bedside: below a lesion predicted to paralyse a muscle, the recorded grade
 # is often anywhere between the prediction and normal. This share of the probability is spread evenly over the

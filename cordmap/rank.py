@@ -32,6 +32,9 @@ POOR_FIT_NATS = 8.0
 # rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
 SECOND_LESION_GAIN = 10.0
 PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as the first lesion of a pair
+# Imaging window of a cord lesion, in cord segments around its rostral segment (see vertebral_levels): judgement
+# from common clinical practice (image above the sensory level; an extrinsic mass may lie several segments higher).
+WINDOW_ABOVE, WINDOW_ABOVE_COMPRESSION, WINDOW_BELOW_MIN, WINDOW_BELOW = 2, 3, 2, 4
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
 
@@ -284,8 +287,15 @@ def vertebral_levels(lesion: Lesion) -> tuple[str, ...]:
         return ("L5-S1", "sacrum")
     if lesion.pattern == "cauda_equina":
         return ("L1", "L2", "L3", "L4", "L5", "S1")
-    if lesion.pattern in ("lateral_compression", "anterior_compression", "posterior_compression"):
-        t = max(0, t - 3)  # an extrinsic lesion can sit several segments above the sensory level it produces
+    if lesion.pattern == NORMAL:
+        return ()
+    # A cord lesion's rostral edge is uncertain by a segment or two (a sensory level lies at or below its lesion),
+    # and an extrinsic one can sit several segments above the level it produces: the window starts WINDOW_ABOVE
+    # segments above the rostral segment and ends at the caudal one, or WINDOW_BELOW segments below the rostral
+    # one for a long lesion (what the MRI must show is where the lesion starts), and at least WINDOW_BELOW_MIN
+    # segments below the rostral one (the lesion's own segments are uncertain too).
+    above = WINDOW_ABOVE_COMPRESSION if lesion.pattern in COMPRESSIVE else WINDOW_ABOVE
+    t, b = max(0, t - above), min(max(b, t + WINDOW_BELOW_MIN), t + WINDOW_BELOW, len(a.segments) - 1)
     out = []
     for s in range(t, b + 1):
         v = a.vertebra(a.segments[s])
