@@ -285,9 +285,10 @@ _BACK_DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5, 0.6), 0.02
 # more: 99.06% of candidates ranked first without the cap, 99.15% with it; a cap of 10 gave 99.42% but only 16,655
 # candidates). A lesion given by hand may be longer.
 COMPRESSION_MAX_EXTENT = 20
-# Rostral segments the atlas tries for the cord patterns other than the conus: down to L5 (the sacral cord is the
-# conus medullaris; a lesion there is the conus pattern's, so two names do not split one picture).
-CORD_TOPS = ("C1", "L5")
+# Rostral segments the atlas tries for the cord patterns other than the conus: down to L4 (from L5 down the cord is
+# the conus medullaris and its epiconus; a lesion there is the conus pattern's, so two names do not split one
+# picture).
+CORD_TOPS = ("C1", "L4")
 
 PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("complete", "the whole cross-section at every segment of the extent (transection, complete myelitis)",
@@ -328,7 +329,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             (Param("contra", 0.5, (0.0, 0.5, 1.0), 0.0, 1.0, "share of the other side's roots involved"),
              Param("medial", 0.0, (0.0, 0.33), 0.0, 1.0,
                    "share of the other side's half of the sac reached from the midline: its lowest roots, which "
-                   "lie medially (central disc)")),
+                   "lie medially (central disc)"), _INCOMPLETE),
             tops=("L1", "S3"), bottom_fixed="Co1"),
     Pattern("root", "one dorsal and ventral root (radiculopathy)", ("left", "right"), _root,
             (Param("severity", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
