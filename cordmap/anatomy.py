@@ -113,23 +113,37 @@ def _muscle_names(a: Anatomy) -> dict[str, str]:
     return dict(zip(t["myotome"], t["muscle"]))
 
 
+@dataclass(frozen=True)
+class FamilyPrior:
+    """A lesion family's prior weight; hypotheses whose rostral segment is in `common` weigh `factor` times more."""
+    weight: float
+    common: frozenset[str]
+    factor: float
+
+
 @cache
-def family_weights() -> dict[str, float]:
-    """Relative prior weight of each lesion family (`data/priors.csv`); every pattern must have a positive one."""
+def family_priors() -> dict[str, FamilyPrior]:
+    """The prior of each lesion family (`data/priors.csv`); every pattern must have a positive weight."""
     from .lesions import PATTERNS
 
-    t = _table("priors.csv", ("family", "weight"))
+    t = _table("priors.csv", ("family", "weight", "common_tops", "common_factor"))
+    segs = anatomy().segments
     out = {}
     for r in t.itertuples():
+        where = f"cordmap/data/priors.csv family {r.family!r}"
         if r.family not in PATTERNS:
             raise bad_value("cordmap/data/priors.csv family", r.family, [*PATTERNS], "pattern")
         try:
-            w = float(r.weight)
+            w, k = float(r.weight), float(r.common_factor)
         except ValueError:
-            w = -1.0
-        if not w > 0:
-            raise CordmapError(f"cordmap/data/priors.csv: family {r.family!r} needs a weight > 0, got {r.weight!r}")
-        out[r.family] = w
+            raise CordmapError(f"{where}: weight and common_factor must be numbers") from None
+        if not (w > 0 and k > 0):
+            raise CordmapError(f"{where}: weight and common_factor must be > 0, got {r.weight!r}, {r.common_factor!r}")
+        common = frozenset(x for x in r.common_tops.split(";") if x)
+        for x in common:
+            if x not in segs:
+                raise bad_value(f"{where} common_tops", x, segs, "segment")
+        out[r.family] = FamilyPrior(w, common, k)
     missing = [p for p in PATTERNS if p not in out]
     if missing:
         raise CordmapError(f"cordmap/data/priors.csv: no weight for {missing}")

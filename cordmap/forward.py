@@ -144,6 +144,11 @@ def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, 
 SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: absent (model convention)
 UMN_THRESHOLD = 0.3  # corticospinal loss that releases reflexes (model convention)
 ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
+# A partial corticospinal loss weakens less than in proportion (the surviving fibres and the other descending
+# pathways keep some power: a partial myelopathy gives spasticity with grade 4 weakness, a complete one plegia):
+# the weakness is the corticospinal loss to this power (0.35 -> grade 4, 0.65 -> 2-3, 1 -> 0). Judgement, common
+# clinical practice; lower motor neuron loss weakens in proportion (motor units lost).
+UMN_POWER_EXPONENT = 1.5
 
 
 @dataclass(frozen=True)
@@ -299,7 +304,7 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
         for sd in (0, 1):
             u, lo = _umn(L, sd, w), _lmn(L, sd, w)
             mu[:, sd, mi], ml[:, sd, mi] = u, lo
-            motor[:, sd, mi] = 5 * (1 - _comb(u, lo))
+            motor[:, sd, mi] = 5 * (1 - _comb(u ** UMN_POWER_EXPONENT, lo))
 
     def released_by(sd, segs):
         """Corticospinal loss to the arc's segments, counted only where the arc itself still works."""
@@ -404,7 +409,7 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     acs = 0.5 * (acs_same + acs_other)
     mu = mus.total(mus.weight * (0.92 * cs + 0.08 * acs))
     ml = mus.total(mus.weight * _comb(vh, vr))
-    motor = 5 * (1 - _comb(mu, ml))
+    motor = 5 * (1 - _comb(mu ** UMN_POWER_EXPONENT, ml))
 
     # reflexes: (n, 2, reflexes, slots)
     dr, en, vh, vr, cs, acs_same, acs_other = np.moveaxis(L[:, t["arc_cols"]], 1, 0)

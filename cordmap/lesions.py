@@ -332,7 +332,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
                    "lie medially (central disc)"), _INCOMPLETE),
             tops=("L1", "S3"), bottom_fixed="Co1"),
     Pattern("root", "one dorsal and ventral root (radiculopathy)", ("left", "right"), _root,
-            (Param("severity", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
+            (Param("severity", 1.0, (0.2, 0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
             tops=("C2", "S5"), single=True),
     # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
     Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,

@@ -17,7 +17,7 @@ import pandas as pd
 from . import atlas as atlas_mod
 from . import cautions as C
 from . import observation
-from .anatomy import MODALITIES, SIDES, anatomy, family_weights
+from .anatomy import MODALITIES, SIDES, anatomy, family_priors
 from .findings import Findings, item_label, item_values, parse
 from .lesions import NORMAL, Lesion
 from .simulate import simulate
@@ -37,6 +37,7 @@ PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as
 WINDOW_ABOVE, WINDOW_ABOVE_COMPRESSION, WINDOW_BELOW_MIN, WINDOW_BELOW = 2, 3, 2, 4
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
+UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly normal (effectively zero)
 
 
 def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
@@ -370,18 +371,29 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     _, cell = np.unique(np.stack([code, np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
                         return_inverse=True)
     cell = cell.ravel()
-    weights = family_weights()
-    fam_w = np.array([weights[str(n)] for n in names])
+    priors = family_priors()
+    segs = anatomy().segments
     cell_code = np.zeros(cell.max() + 1, dtype=np.int64)
     cell_code[cell] = code
-    cells_per_family = np.bincount(cell_code, minlength=len(names))
+    cell_top = np.zeros(cell.max() + 1, dtype=np.int64)
+    cell_top[cell] = at.top
+    # each family's weight spread over its hypotheses, the common levels weighing `factor` times more
+    cell_w = np.array([priors[names[c]].factor if segs[t] in priors[names[c]].common else 1.0
+                       for c, t in zip(cell_code, cell_top)])
+    fam_w = np.array([priors[str(n)].weight for n in names])
+    cell_share = cell_w / np.bincount(cell_code, weights=cell_w, minlength=len(names))[cell_code]
     _, sub = np.unique(np.stack([cell, group]), axis=1, return_inverse=True)  # (hypothesis, exam) pairs
     sub = sub.ravel()
     sub_cell = np.zeros(sub.max() + 1, dtype=np.int64)
     sub_cell[sub] = cell
     exams_per_cell = np.bincount(sub_cell)
-    log_prior = (np.log(fam_w[code] / fam_w.sum()) - np.log(cells_per_family[code]) - np.log(exams_per_cell[cell])
+    log_prior = (np.log(fam_w[code] / fam_w.sum()) + np.log(cell_share[cell]) - np.log(exams_per_cell[cell])
                  - np.log(np.bincount(sub)[sub]))
+    # A lesion predicting a wholly normal exam cannot be found at the bedside: on any exam it is the normal cord's
+    # twin, so it is left out (no prior mass) rather than listed as a lesion that explains nothing.
+    normal = np.flatnonzero(at.pattern_of == NORMAL)
+    if len(normal):
+        log_prior[(group == group[normal[0]]) & (code != code[normal[0]])] = UNDETECTABLE
     d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, log_prior)
     _DERIVED[id(at)] = (at, d)
     return d
