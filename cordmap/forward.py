@@ -128,14 +128,38 @@ def extent_sums(per_segment: np.ndarray) -> np.ndarray:
     return np.concatenate([np.zeros_like(logs[:, :1]), np.cumsum(logs, axis=1)], axis=1)
 
 
-def extent_losses(cum: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray) -> np.ndarray:
-    """Losses over top..bottom from `extent_sums`, one row per candidate: 1 - prod(1 - f)."""
+# Long tracts: the same fibres pass every segment of a lesion's extent, and a named pattern has the same shape at
+# each segment, so a long lesion cuts the same fibres again rather than new ones. Their losses combine as the
+# geometric mean of survival over the segments of the extent where the feature's fibres run (a lesion of constant
+# shape loses the same share whatever its length); segmental features (roots, entry zones, gray matter, the
+# crossing in the commissure), each present at one or two segments, combine as 1 - prod(1 - f).
+LONG_TRACTS = ("spinothalamic", "anterior_spinothalamic", "dorsal_column", "corticospinal", "anterior_corticospinal",
+               "sympathetic")
+
+
+@cache
+def _presence(resolution: int = DEFAULT_RESOLUTION) -> tuple[np.ndarray, np.ndarray]:
+    """(32, features) cumulative count of segments where each feature's fibres run (a zero row first), and the
+    (features,) mask of long-tract features."""
+    W = region_to_feature(resolution)
+    present = np.stack([w.sum(axis=0) > 0 for w in W]).astype(np.int32)  # (31, features)
+    cum = np.concatenate([np.zeros((1, present.shape[1]), np.int32), np.cumsum(present, axis=0)])
+    long = np.array([k[0] in LONG_TRACTS for k in feature_index()])
+    return cum, long
+
+
+def extent_losses(cum: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray,
+                  resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
+    """Losses over top..bottom from `extent_sums`, one row per candidate (see LONG_TRACTS)."""
     total = cum[mask_id, bottom + 1] - cum[mask_id, top]
+    pres, long = _presence(resolution)
+    n = np.maximum(pres[bottom + 1] - pres[top], 1)
+    total = np.where(long, total / n, total)
     return (-np.expm1(total)).astype(np.float32)
 
 
 def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray) -> np.ndarray:
-    """Combine losses over top..bottom for many candidates at once: 1 - prod(1 - f)."""
+    """Combine losses over top..bottom for many candidates at once (see LONG_TRACTS)."""
     return extent_losses(extent_sums(per_segment), mask_id, top, bottom)
 
 
