@@ -46,7 +46,8 @@ class Atlas:
     items: tuple[tuple, ...]
     offsets: np.ndarray  # (items + 1,) first column of each item
     logp: np.ndarray  # (columns, n) float32; read-only (a memory map when it comes from the disk cache)
-    likely: np.ndarray | None = None  # (items, n) int8 index of each candidate's most likely value; derived if None
+    likely: np.ndarray | None = None  # (items, n) int8 index of each candidate's predicted value (its crisp exam,
+    # as `simulate` reports it); the most likely recorded value if None
 
     def __post_init__(self):
         object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
@@ -180,12 +181,14 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
     items = all_items()
     offsets = np.concatenate([[0], np.cumsum([len(item_values(k)) for k in items])]).astype(np.int32)
     logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
+    likely = np.empty((len(items), len(var)), dtype=np.int8)
     for start in range(0, len(var), chunk):
         sl = slice(start, start + chunk)
         L = along_extent(per_seg, var[sl], top[sl], bottom[sl])
         r = readout(L, phase == "acute")
         logp[:, sl] = observation.log_probabilities(r, items, offsets).T
-    return Atlas(phase, vs, var, top, bottom, area, items, offsets, logp)
+        likely[:, sl] = observation.crisp_indices(r, items).T
+    return Atlas(phase, vs, var, top, bottom, area, items, offsets, logp, likely)
 
 
 _MEMORY: dict[str, Atlas] = {}

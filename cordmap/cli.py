@@ -168,7 +168,8 @@ def _read_cases(path: Path):
 def cmd_batch(args):
     from . import atlas as atlas_mod
     from .findings import parse
-    from .rank import batch_scores, exam_groups, group_levels, leading_groups, listed
+    from .lesions import NORMAL
+    from .rank import batch_leaders, batch_scores
 
     path = Path(args.file)
     if not path.exists():
@@ -183,32 +184,27 @@ def cmd_batch(args):
         except CordmapError as e:
             bad.append((cid, str(e)))
             print(f"case {cid}: skipped: {e}", file=sys.stderr)
-    fields = ["case_id", "status", "pattern", "side", "top", "bottom", "params", "probability", "vertebral_levels",
-              "same_exam", "second", "second_probability", "error"]
+    # fit: "empty" (nothing entered), "normal" (no lesion explains the findings better than a normal cord) or
+    # "lesion"; the two-lesion check ("poor") is made by `cordmap rank` only (it costs a pair search per case).
+    fields = ["case_id", "status", "fit", "pattern", "side", "top", "bottom", "params", "probability",
+              "vertebral_levels", "same_exam", "second", "second_probability", "error"]
     t0 = time.perf_counter()
     rows = []
-    import numpy as np
-
     for phase in ("chronic", "acute"):
         sel = [i for i, f in enumerate(good) if f.phase == phase]
         if not sel:
             continue
         at = atlas_mod.get(phase)
-        group = exam_groups(at)
         for start in range(0, len(sel), 256):
             chunk = sel[start:start + 256]
             scores = batch_scores([good[i] for i in chunk], at)
             for row, i in zip(scores, chunk):
-                p = np.exp(row - row.max())
-                p /= p.sum()
-                (m1, p1), (m2, p2) = leading_groups(row, p, group, 2)  # as rank() shows them
-                les, les2 = at.lesion(int(m1[0])), at.lesion(int(m2[0]))
-                rows.append({"case_id": ids[i], "status": "ok", "pattern": les.pattern, "side": les.side,
+                (les, p1, levels, same), (les2, p2, _, _) = batch_leaders(at, row, 2)  # as rank() lists them
+                fit = "empty" if not good[i].items else "normal" if les.pattern == NORMAL else "lesion"
+                rows.append({"case_id": ids[i], "status": "ok", "fit": fit, "pattern": les.pattern, "side": les.side,
                              "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
-                             "probability": round(p1, 4),
-                             "vertebral_levels": " ".join(group_levels(at, m1)),
-                             "same_exam": "; ".join(at.lesion(int(j)).describe() for j in listed(at, m1)[1:]),
-                             "second": les2.describe(),
+                             "probability": round(p1, 4), "vertebral_levels": " ".join(levels),
+                             "same_exam": "; ".join(o.describe() for o in same), "second": les2.describe(),
                              "second_probability": round(p2, 4), "error": ""})
             done = min(start + 256, len(sel))
             bar = "#" * int(30 * done / len(sel))

@@ -122,39 +122,45 @@ def fibre_losses_per_segment(masks, resolution: int = DEFAULT_RESOLUTION) -> np.
     return np.clip(out, 0.0, 1.0)
 
 
-def extent_sums(per_segment: np.ndarray) -> np.ndarray:
-    """(k, 31, features) losses -> (k, 32, features) cumulative sums of log(1 - f), a zero row first."""
-    logs = np.log1p(-np.minimum(per_segment, 1 - 1e-6))
-    return np.concatenate([np.zeros_like(logs[:, :1]), np.cumsum(logs, axis=1)], axis=1)
-
-
 # Long tracts: the same fibres pass every segment of a lesion's extent, and a named pattern has the same shape at
-# each segment, so a long lesion cuts the same fibres again rather than new ones. Their losses combine as the
-# geometric mean of survival over the segments of the extent where the feature's fibres run (a lesion of constant
-# shape loses the same share whatever its length); segmental features (roots, entry zones, gray matter, the
-# crossing in the commissure), each present at one or two segments, combine as 1 - prod(1 - f).
+# each segment, so a long lesion cuts the same fibres again rather than new ones. A long-tract feature's loss over
+# the extent is therefore the mean over its segments of the share of the fibres there that are lost (a geometric
+# mean of survival, each segment weighted by the share of the feature's fibres running there: half at the segment
+# where pain fibres cross): a lesion of constant shape loses the same share whatever its length. Segmental features
+# (roots, entry zones, gray matter, the crossing in the commissure) combine as 1 - prod(1 - f).
 LONG_TRACTS = ("spinothalamic", "anterior_spinothalamic", "dorsal_column", "corticospinal", "anterior_corticospinal",
                "sympathetic")
+_EPS = 1e-6
 
 
 @cache
-def _presence(resolution: int = DEFAULT_RESOLUTION) -> tuple[np.ndarray, np.ndarray]:
-    """(32, features) cumulative count of segments where each feature's fibres run (a zero row first), and the
-    (features,) mask of long-tract features."""
+def _presence(resolution: int = DEFAULT_RESOLUTION) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(31, features) share of each feature's fibres running at each segment, its (32, features) cumulative sum
+    (a zero row first), and the (features,) mask of long-tract features."""
     W = region_to_feature(resolution)
-    present = np.stack([w.sum(axis=0) > 0 for w in W]).astype(np.int32)  # (31, features)
-    cum = np.concatenate([np.zeros((1, present.shape[1]), np.int32), np.cumsum(present, axis=0)])
+    present = np.stack([w.sum(axis=0) for w in W]).astype(np.float64)
+    cum = np.concatenate([np.zeros((1, present.shape[1])), np.cumsum(present, axis=0)])
     long = np.array([k[0] in LONG_TRACTS for k in feature_index()])
-    return cum, long
+    return present, cum, long
+
+
+def extent_sums(per_segment: np.ndarray, resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
+    """(k, 31, features) losses -> (k, 32, features) cumulative sums of log(1 - f) (for long tracts, of
+    w log(1 - f / w), w the share of the feature's fibres at the segment), a zero row first."""
+    present, _, long = _presence(resolution)
+    w = np.where(long, present, 1.0)
+    share = np.divide(per_segment, w, out=np.zeros(per_segment.shape), where=w > 0)
+    logs = np.where(long, w, 1.0) * np.log1p(-np.minimum(share, 1 - _EPS))
+    return np.concatenate([np.zeros_like(logs[:, :1]), np.cumsum(logs, axis=1)], axis=1)
 
 
 def extent_losses(cum: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray,
                   resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
     """Losses over top..bottom from `extent_sums`, one row per candidate (see LONG_TRACTS)."""
     total = cum[mask_id, bottom + 1] - cum[mask_id, top]
-    pres, long = _presence(resolution)
-    n = np.maximum(pres[bottom + 1] - pres[top], 1)
-    total = np.where(long, total / n, total)
+    _, pres, long = _presence(resolution)
+    n = pres[bottom + 1] - pres[top]
+    total = np.where(long, total / np.maximum(n, _EPS), total)
     return (-np.expm1(total)).astype(np.float32)
 
 
@@ -168,11 +174,19 @@ def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, 
 SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: absent (model convention)
 UMN_THRESHOLD = 0.3  # corticospinal loss that releases reflexes (model convention)
 ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
-# A partial corticospinal loss weakens less than in proportion (the surviving fibres and the other descending
-# pathways keep some power: a partial myelopathy gives spasticity with grade 4 weakness, a complete one plegia):
-# the weakness is the corticospinal loss to this power (0.35 -> grade 4, 0.65 -> 2-3, 1 -> 0). Judgement, common
-# clinical practice; lower motor neuron loss weakens in proportion (motor units lost).
-UMN_POWER_EXPONENT = 1.5
+# Weakness from corticospinal loss is not in proportion to it: a small partial loss spares power (an early
+# myelopathy is spastic with brisk reflexes and at most grade 4 weakness) and losing most of the tract paralyses.
+# The weakness rises linearly from 0 at UMN_RAMP[0] of the lateral tract lost to 1 at UMN_RAMP[1] (a third of the
+# tract -> grade 4, half -> 2-3, three quarters -> 0-1). Judgement, common clinical practice, no source; lower motor
+# neuron loss weakens in proportion (motor units lost).
+UMN_RAMP = (0.2, 0.8)
+LATERAL_CST_SHARE = 0.92  # share of a muscle's corticospinal drive in the lateral tract (as _umn weighs it)
+
+
+def umn_weakness(umn_loss):
+    """Weakness 0..1 from a muscle's corticospinal loss (see UMN_RAMP)."""
+    lo, hi = UMN_RAMP
+    return np.clip((np.asarray(umn_loss) / LATERAL_CST_SHARE - lo) / (hi - lo), 0.0, 1.0)
 
 
 @dataclass(frozen=True)
@@ -328,7 +342,7 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
         for sd in (0, 1):
             u, lo = _umn(L, sd, w), _lmn(L, sd, w)
             mu[:, sd, mi], ml[:, sd, mi] = u, lo
-            motor[:, sd, mi] = 5 * (1 - _comb(u ** UMN_POWER_EXPONENT, lo))
+            motor[:, sd, mi] = 5 * (1 - _comb(umn_weakness(u), lo))
 
     def released_by(sd, segs):
         """Corticospinal loss to the arc's segments, counted only where the arc itself still works."""
@@ -433,7 +447,7 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     acs = 0.5 * (acs_same + acs_other)
     mu = mus.total(mus.weight * (0.92 * cs + 0.08 * acs))
     ml = mus.total(mus.weight * _comb(vh, vr))
-    motor = 5 * (1 - _comb(mu ** UMN_POWER_EXPONENT, ml))
+    motor = 5 * (1 - _comb(umn_weakness(mu), ml))
 
     # reflexes: (n, 2, reflexes, slots)
     dr, en, vh, vr, cs, acs_same, acs_other = np.moveaxis(L[:, t["arc_cols"]], 1, 0)

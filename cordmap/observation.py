@@ -105,6 +105,27 @@ def item_weights(keys) -> np.ndarray:
                     dtype=np.float32)
 
 
+def crisp_indices(r: Readout, items: tuple) -> np.ndarray:
+    """(candidates, items) index of each candidate's predicted value of every item (what `simulate` reports):
+    the exam a candidate predicts, before any examiner noise."""
+    a = anatomy()
+    lo, hi = SENSORY_THRESHOLDS
+    out = np.empty((r.sensory.shape[0], len(items)), dtype=np.int8)
+    grade = np.where(r.sensory < lo, 2, np.where(r.sensory < hi, 1, 0))
+    motor = np.clip(np.floor(r.motor + 0.5), 0, 5)
+    for i, key in enumerate(items):
+        kind = key[0]
+        if kind == "sensory":
+            out[:, i] = grade[:, MODALITIES.index(key[1]), SIDES.index(key[2]), a.dermatomes.index(key[3])]
+        elif kind == "motor":
+            out[:, i] = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
+        elif kind == "reflex":
+            out[:, i] = r.reflexes[(key[1], key[2])]
+        else:
+            out[:, i] = r.signs[(key[1], key[2])]
+    return out
+
+
 def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarray:
     """(candidates, columns) log P(value | candidate) for every item in `items`, laid out by `offsets`."""
     a = anatomy()

@@ -231,7 +231,7 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
-    leading = leading_groups(lp, post, d.cell, max(top, PAIR_FIRSTS, 1))
+    leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
     fit, advice = "good", ""
     if not items:
         fit, advice = "empty", "Nothing was entered: record at least one finding to rank lesions."
@@ -439,6 +439,23 @@ def leading_groups(score: np.ndarray, post: np.ndarray, group: np.ndarray, n: in
     return out
 
 
+def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int) -> list[tuple[np.ndarray, float]]:
+    """The n most probable hypotheses (pattern, side, rostral segment): (members best first, probability), most
+    probable first. A hypothesis whose best lesion predicts the same bedside exam as a more probable one's is folded
+    into it (its probability added; the lesion is listed there as the same exam): no bedside test separates them."""
+    out: list[tuple[np.ndarray, float]] = []
+    shown: dict[int, int] = {}
+    for members, mass in leading_groups(score, post, d.cell, max(4 * n, n + 20)):
+        g = int(d.group[members[0]])
+        if g in shown:
+            k = shown[g]
+            out[k] = (out[k][0], out[k][1] + mass)
+        elif len(out) < n:
+            shown[g] = len(out)
+            out.append((members, mass))
+    return out
+
+
 def _leading(score: np.ndarray, n: int) -> np.ndarray:
     """Indices of the n highest scores, best first, ties in index order (as a stable full sort would give)."""
     if n >= len(score):
@@ -642,6 +659,19 @@ def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
         cols, _, w = evidence(f, at)
         onehot[e, cols] = w
     return onehot @ at.logp + size_prior(at)[None, :]
+
+
+def batch_leaders(at: atlas_mod.Atlas, score: np.ndarray, n: int = 2) -> list[tuple[Lesion, float, tuple, tuple]]:
+    """For one row of `batch_scores`, the n leading hypotheses as rank() lists them: (lesion, probability,
+    vertebral levels, lesions with the same predicted exam)."""
+    post = _softmax(score.astype(np.float64))
+    out = []
+    for members, prob in leading_hypotheses(score, post, _derived(at), n):
+        i = int(members[0])
+        others = tuple(at.lesion(int(j)) for j in listed(at, same_exam(at, i, score)))
+        lesion = at.lesion(i)
+        out.append((lesion, prob, _merge_levels([vertebral_levels(x) for x in (lesion, *others)]), others))
+    return out
 
 
 def sensory_summary(f: Findings) -> str:
