@@ -602,6 +602,9 @@ COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compres
 # lumbar radiculopathy. Judgement, checked in tests/test_rank.py.
 CAUTION_EXPLAINS = 0.9
 CAUTION_MASS = 0.05  # share of the explaining posterior that raises a level-dependent caution
+# Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
+# dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
+OUTSIDE_THE_CORD = ("root", "cauda_equina", NORMAL)
 
 
 def _myelopathy_signs(f: Findings) -> bool:
@@ -628,7 +631,10 @@ def _myelopathy_signs(f: Findings) -> bool:
 
 def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
     """The cautions that apply: emergency, breathing, dysreflexia (weighted by the candidates that explain the
-    entered abnormal findings), and always the decision-support line."""
+    entered abnormal findings), and always the decision-support line. Breathing: bilateral cord lesions predicted
+    to weaken the diaphragm (C3-C5; one paralysed hemidiaphragm is usually tolerated at rest, from memory), a weak
+    diaphragm entered, or an acute cervical cord lesion (common clinical practice: any acute complete cervical
+    injury needs vital capacity watched; check values section 8)."""
     abn = [at.item_index[k] for k, v in f.items.items() if k in at.item_index and _abnormal(k, v)]
     if abn:
         share = at.abnormal[np.array(abn)].mean(axis=0)
@@ -642,9 +648,15 @@ def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
             or _myelopathy_signs(f)):
         out.append(C.EMERGENCY)
     a = anatomy()
-    if w[at.top <= a.index("C5")].sum() > CAUTION_MASS or f.items.get(("sign", "diaphragm", "")) == "weak":
+    cord = ~np.isin(at.pattern_of, OUTSIDE_THE_CORD)
+    k = at.item_index[("sign", "diaphragm", "")]
+    bilateral = np.array([v.side == "both" for v in at.variants])[at.variant]
+    weak_diaphragm = cord & bilateral & (at.likely[k] == item_values(("sign", "diaphragm", "")).index("weak"))
+    acute_cervical = cord & (at.top <= a.index("C8")) & (f.phase == "acute")
+    if (w[weak_diaphragm | acute_cervical].sum() > CAUTION_MASS
+            or f.items.get(("sign", "diaphragm", "")) == "weak"):
         out.append(C.BREATHING)
-    if w[at.top <= a.index("T6")].sum() > CAUTION_MASS:
+    if w[cord & (at.top <= a.index("T6"))].sum() > CAUTION_MASS:
         out.append(C.DYSREFLEXIA)
     out.append(C.DECISION_SUPPORT)
     return tuple(out)

@@ -668,7 +668,7 @@ def test_lesions_with_the_same_exam_are_one_hypothesis():
     h = r.best
     names = [x.describe() for x in (h.lesion, *h.same_exam)]
     assert "left hemisection T6" in names and "left lateral compression T6 (depth 0.5)" in names, names
-    assert h.probability > 0.9 and h.same_exam_count >= 1
+    assert h.probability > 0.5 and h.same_exam_count >= 1
     assert {"T1", "T4"} <= set(h.vertebral_levels), h.vertebral_levels
     assert "same exam as" in h.summary
     assert "lateral compression" in r.table.loc[0, "same_exam"]
