@@ -168,12 +168,14 @@ class Result:
 
 
 def _names(h) -> list[Lesion]:
-    return [h.lesion, *h.same_exam]
+    """The lesions a hypothesis names: its own, its variants of the same family, those with the same exam."""
+    return [h.lesion, *h.variants, *h.same_exam]
 
 
 def score(case: Case, ranking) -> Result:
-    """Compare one ranking with one case. A hypothesis names the answer when its lesion or one of the lesions
-    it lists as giving the same bedside exam matches. Two-lesion cases count as top-1 when the leader names
+    """Compare one ranking with one case. A hypothesis names the answer when its lesion, one of its variants (a
+    compression from behind beside one from the front) or one of the lesions it lists as giving the same bedside
+    exam matches. Two-lesion cases count as top-1 when the leader names
     either lesion; normal exams when the verdict is normal."""
     hyps = ranking.hypotheses
     leader = hyps[0].lesion.describe() if hyps else ""

@@ -48,6 +48,8 @@ def _print_ranking(r, out=sys.stdout):
     for h in r.hypotheses:
         bar = "#" * max(1, round(h.probability * 30)) if h.probability >= 0.005 else "."
         w(f"{h.rank:>2}. {h.lesion.describe():<48} {h.probability:6.1%} {bar}\n")
+        if h.variants:
+            w(f"    or: {'; '.join(v.describe() for v in h.variants)} (imaging tells which)\n")
         if h.same_exam:
             w(f"    same predicted exam: {h.same_exam_text()} (no bedside test separates them; imaging does)\n")
         w(f"    image vertebrae: {', '.join(h.vertebral_levels)}\n")

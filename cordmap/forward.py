@@ -172,14 +172,17 @@ def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, 
 # ------------------------------------------------------------------ readout
 
 SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: absent (model convention)
-UMN_THRESHOLD = 0.3  # corticospinal loss that releases reflexes (model convention)
+# Corticospinal loss that releases reflexes: hyperreflexia and an extensor plantar come before weakness in an
+# evolving myelopathy, so the release threshold lies below the weakness ramp (model convention; common clinical
+# practice, no source).
+UMN_THRESHOLD = 0.2
 ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
 # Weakness from corticospinal loss is not in proportion to it: a small partial loss spares power (an early
 # myelopathy is spastic with brisk reflexes and at most grade 4 weakness) and losing most of the tract paralyses.
 # The weakness rises linearly from 0 at UMN_RAMP[0] of the lateral tract lost to 1 at UMN_RAMP[1] (a third of the
-# tract -> grade 4, half -> 2-3, three quarters -> 0-1). Judgement, common clinical practice, no source; lower motor
+# tract -> grade 4, half -> 3, four fifths -> 0-1). Judgement, common clinical practice, no source; lower motor
 # neuron loss weakens in proportion (motor units lost).
-UMN_RAMP = (0.2, 0.8)
+UMN_RAMP = (0.25, 0.85)
 LATERAL_CST_SHARE = 0.92  # share of a muscle's corticospinal drive in the lateral tract (as _umn weighs it)
 
 

@@ -19,7 +19,7 @@ from . import cautions as C
 from . import observation
 from .anatomy import MODALITIES, SIDES, anatomy, family_priors
 from .findings import Findings, item_label, item_values, parse
-from .lesions import NORMAL, Lesion
+from .lesions import NORMAL, PATTERNS, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
@@ -31,6 +31,7 @@ POOR_FIT_NATS = 8.0
 # ...or when adding a second lesion to the best one improves the fit by more than this (nats): random exam errors
 # rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
 SECOND_LESION_GAIN = 10.0
+PAIR_GAP, PAIR_GAP_CORD = 1, 4  # segments between two lesions for them to count as separate (see separate())
 PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as the first lesion of a pair
 # Imaging window of a cord lesion, in cord segments around its rostral segment (see vertebral_levels): judgement
 # from common clinical practice (image above the sensory level; an extrinsic mass may lie several segments higher).
@@ -69,9 +70,11 @@ class Hypothesis:
     # extent); `probability` is the mass of all its variants. `same_exam`: lesions of other hypotheses whose
     # predicted bedside exam is the same as `lesion`'s on every item the model knows (the most probable first, at
     # most SAME_EXAM_SHOWN), and how many there are in all. No bedside test separates them; imaging does.
-    # `vertebral_levels` covers the lesion and the listed ones.
+    # `variants`: the best lesion of each other pattern of the same family in this hypothesis (a compression from
+    # behind beside one from the front). `vertebral_levels` covers the lesion, its variants and the listed ones.
     same_exam: tuple[Lesion, ...] = ()
     same_exam_count: int = 0
+    variants: tuple[Lesion, ...] = ()
 
     def predicted(self) -> Findings:
         return simulate(self.lesion)
@@ -89,7 +92,9 @@ class Hypothesis:
                 "explains": list(self.explains), "conflicts": list(self.conflicts),
                 "same_exam": [{"pattern": o.pattern, "side": o.side, "top": o.top, "bottom": o.bottom,
                                "params": o.all_params()} for o in self.same_exam],
-                "same_exam_count": self.same_exam_count}
+                "same_exam_count": self.same_exam_count,
+                "variants": [{"pattern": o.pattern, "side": o.side, "top": o.top, "bottom": o.bottom,
+                              "params": o.all_params()} for o in self.variants]}
 
 
 @dataclass(frozen=True)
@@ -186,20 +191,38 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) ->
 
 def best_pair(at, items: list[tuple], seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
               ) -> tuple[int, int, float]:
-    """The pair of lesions that best explains the exam: the first among `firsts` (candidate indices), the second
-    any candidate. Two lesions together predict, item by item, the more abnormal of their two predictions, so
-    adding j to i changes the fit by the (weighted) log-probabilities `seen` of the items where j is more
-    abnormal. Returns (i, j, log-likelihood of the pair)."""
+    """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
+    (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
+    normal item (a second lesion adds its own findings; it is not used to deepen the first one's), so adding j to
+    i changes the fit by the (weighted) log-probabilities `seen` of those items. Returns (i, j, log-likelihood of
+    the pair)."""
     rows = np.array([at.item_index[k] for k in items])
     abn = at.abnormal[rows]  # (examined, candidates)
     best = (int(firsts[0]), int(firsts[0]), float(ll[firsts[0]]))
     for i in firsts:
-        worse = abn > abn[:, i:i + 1]
+        if at.pattern_of[i] == NORMAL:
+            continue
+        worse = (abn > 0) & (abn[:, i:i + 1] == 0)  # findings i predicts normal and j abnormal
         gain = np.einsum("ij,ij->j", seen - seen[:, i:i + 1], worse, dtype=np.float32)
+        gain[~separate(at, int(i))] = -np.inf
         j = int(gain.argmax())
         if ll[i] + gain[j] > best[2]:
             best = (int(i), j, float(ll[i] + gain[j]))
     return best
+
+
+def separate(at, i: int) -> np.ndarray:
+    """(candidates,) which lesions count as a second, separate lesion beside candidate i: their segments lie more
+    than PAIR_GAP segments from i's (PAIR_GAP_CORD for two cord lesions), or both lie outside the cord on opposite
+    sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
+    compression, an intramedullary tumour with a cyst), not two lesions."""
+    d = _derived(at)
+    outside = np.isin(at.pattern_of, OUTSIDE_THE_CORD)
+    gap = np.where(outside | outside[i], PAIR_GAP, PAIR_GAP_CORD)
+    apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
+    sides = d.side
+    opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
+    return (apart | opposite) & (at.pattern_of != NORMAL)
 
 
 def assess_fit(at, items: list[tuple], w: np.ndarray, seen: np.ndarray, ll: np.ndarray, leaders: np.ndarray
@@ -353,7 +376,9 @@ class _Derived:
     pattern_names: tuple[str, ...]
     pattern_code: np.ndarray  # (n,) index into pattern_names
     group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
-    cell: np.ndarray  # (n,) hypothesis number: candidates of one pattern, side and rostral segment share it
+    cell: np.ndarray  # (n,) candidates of one pattern, side and rostral segment share a number (the prior's unit)
+    hyp: np.ndarray  # (n,) hypothesis number: one clinical family (Pattern.family), side and rostral segment
+    side: np.ndarray  # (n,) side of each candidate ("left", "right", "both")
     log_prior: np.ndarray  # (n,) log prior before the size preference (see size_prior)
 
 
@@ -394,7 +419,11 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     normal = np.flatnonzero(at.pattern_of == NORMAL)
     if len(normal):
         log_prior[(group == group[normal[0]]) & (code != code[normal[0]])] = UNDETECTABLE
-    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, log_prior)
+    fam = np.array([PATTERNS[str(n)].family for n in names])[code]
+    _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),
+                                 np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
+                       return_inverse=True)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides, log_prior)
     _DERIVED[id(at)] = (at, d)
     return d
 
@@ -445,7 +474,7 @@ def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int)
     into it (its probability added; the lesion is listed there as the same exam): no bedside test separates them."""
     out: list[tuple[np.ndarray, float]] = []
     shown: dict[int, int] = {}
-    for members, mass in leading_groups(score, post, d.cell, max(4 * n, n + 20)):
+    for members, mass in leading_groups(score, post, d.hyp, max(4 * n, n + 20)):
         g = int(d.group[members[0]])
         if g in shown:
             k = shown[g]
@@ -488,12 +517,17 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     conflicts = _describe(conflict, conflicts=True)
     summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
     summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
+    pats = at.pattern_of[members]
+    _, first = np.unique(pats, return_index=True)
+    variants = tuple(at.lesion(int(members[k])) for k in sorted(first) if pats[k] != lesion.pattern)
+    if variants:
+        summary += f"; or {', '.join(v.describe() for v in variants)} (imaging tells which)"
     if others:
         summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
         summary += f" and {len(same) - 2} more" if len(same) > 2 else ""
-    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *others)])
+    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *variants, *others)])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(same))
+                      summary, others, len(same), variants)
 
 
 def observed_columns_of(f: Findings, at, items: list[tuple]) -> np.ndarray:
@@ -507,7 +541,7 @@ def same_exam(at, i: int, score: np.ndarray) -> np.ndarray:
     d = _derived(at)
     if at.pattern_of[i] == NORMAL:
         return np.zeros(0, dtype=np.int64)
-    m = np.flatnonzero((d.group == d.group[i]) & (d.cell != d.cell[i]))
+    m = np.flatnonzero((d.group == d.group[i]) & (d.hyp != d.hyp[i]))
     return m[np.lexsort((m, -score[m]))]
 
 
@@ -516,7 +550,7 @@ def listed(at, members: np.ndarray) -> np.ndarray:
     beside a cauda equina one matters more than a third cauda variant), then the next best; SAME_EXAM_SHOWN at
     most, one per hypothesis (pattern, side, rostral segment)."""
     d = _derived(at)
-    _, one = np.unique(d.cell[members], return_index=True)
+    _, one = np.unique(d.hyp[members], return_index=True)
     members = members[np.sort(one)]
     pats = at.pattern_of[members]
     _, first = np.unique(pats, return_index=True)
