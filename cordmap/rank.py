@@ -52,8 +52,7 @@ def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
 
     Split, not uniform per candidate: the atlas holds up to hundreds of variants (parameters, extents) for one
     hypothesis, and a uniform prior would weigh a hypothesis by how densely the grid samples it."""
-    extent = (at.bottom - at.top + 1).astype(np.float32)
-    return (_derived(at).log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
+    return _derived(at).prior
 
 
 @dataclass(frozen=True)
@@ -189,7 +188,7 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) ->
     return float(w @ m[sel]), float((w * w) @ (m2[sel] - m[sel] ** 2))
 
 
-def best_pair(at, items: list[tuple], seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
+def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
               ) -> tuple[int, int, float]:
     """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
     (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
@@ -197,17 +196,24 @@ def best_pair(at, items: list[tuple], seen: np.ndarray, ll: np.ndarray, firsts: 
     i changes the fit by the (weighted) log-probabilities `seen` of those items. Returns (i, j, log-likelihood of
     the pair)."""
     rows = np.array([at.item_index[k] for k in items])
-    abn = at.abnormal[rows]  # (examined, candidates)
-    best = (int(firsts[0]), int(firsts[0]), float(ll[firsts[0]]))
-    for i in firsts:
-        if at.pattern_of[i] == NORMAL:
-            continue
-        worse = (abn > 0) & (abn[:, i:i + 1] == 0)  # findings i predicts normal and j abnormal
-        gain = np.einsum("ij,ij->j", seen - seen[:, i:i + 1], worse, dtype=np.float32)
-        gain[~separate(at, int(i))] = -np.inf
-        j = int(gain.argmax())
-        if ll[i] + gain[j] > best[2]:
-            best = (int(i), j, float(ll[i] + gain[j]))
+    lead = int(firsts[0])
+    best = (lead, lead, float(ll[lead]))  # no second lesion: the single best
+    firsts = np.array([i for i in firsts if at.pattern_of[i] != NORMAL], dtype=np.int64)
+    # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
+    # first lesion tried explains all the abnormal findings, there is nothing to search for.
+    recorded = np.array([_abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
+    unexplained = recorded[:, None] & (at.abnormal[rows][:, firsts] == 0)
+    if not len(firsts) or not unexplained.any():
+        return best
+    pos = (at.abnormal[rows] > 0).astype(np.float32)  # (examined, candidates): j predicts the item abnormal
+    z = (pos[:, firsts] == 0).T.astype(np.float32)  # (firsts, examined): i predicts the item normal
+    # gain[k, j]: the change in fit from adding j to firsts[k], over the items firsts[k] predicts normal and j not
+    gain = z @ (seen * pos) - (z * seen[:, firsts].T) @ pos
+    for k, i in enumerate(firsts):
+        g = np.where(separate(at, int(i)), gain[k], -np.inf)
+        j = int(g.argmax())
+        if ll[i] + g[j] > best[2]:
+            best = (int(i), j, float(ll[i] + g[j]))
     return best
 
 
@@ -217,23 +223,23 @@ def separate(at, i: int) -> np.ndarray:
     sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
     compression, an intramedullary tumour with a cyst), not two lesions."""
     d = _derived(at)
-    outside = np.isin(at.pattern_of, OUTSIDE_THE_CORD)
+    outside = d.outside
     gap = np.where(outside | outside[i], PAIR_GAP, PAIR_GAP_CORD)
     apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
     sides = d.side
     opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
-    return (apart | opposite) & (at.pattern_of != NORMAL)
+    return (apart | opposite) & ~d.normal
 
 
-def assess_fit(at, items: list[tuple], w: np.ndarray, seen: np.ndarray, ll: np.ndarray, leaders: np.ndarray
-               ) -> tuple[str, int, float]:
+def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,
+               leaders: np.ndarray) -> tuple[str, int, float]:
     """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
     what the pair gains in (weighted) nats over the best single lesion. `seen` holds the weighted log-probability
     of each recorded value (examined x candidates); `leaders` the best member of each leading hypothesis."""
     b = int(leaders[0])
     mean, var = _self_fit(at, b, items, w)
     gap = mean - float(ll[b])
-    first, second, pair = best_pair(at, items, seen, ll, leaders[:PAIR_FIRSTS])
+    first, second, pair = best_pair(at, items, values, seen, ll, leaders[:PAIR_FIRSTS])
     gain = pair - float(ll[b])
     poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
     return ("poor" if poor else "good"), (second if first == b else first), gain
@@ -249,7 +255,8 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     f = parse(findings)
     at = atlas_mod.get(f.phase)
     cols, items, w = evidence(f, at)
-    seen = at.logp[cols] * w[:, None]  # (examined, candidates): weighted log-probability of each recorded value
+    raw = np.asarray(at.logp)[cols]  # (examined, candidates): log-probability of each recorded value
+    seen = raw * w[:, None]  # ...weighted (observation.item_weights)
     ll = seen.sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
@@ -263,14 +270,15 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
         advice = ("No lesion explains these findings better than a normal cord: nothing to image on these "
                   "findings alone; re-examine if the story suggests a cord or root lesion.")
     else:
-        fit, second, gain = assess_fit(at, items, w, seen, ll, np.array([m[0] for m, _ in leading]))
+        fit, second, gain = assess_fit(at, items, [f.items[k] for k in items], w, seen, ll,
+                                       np.array([m[0] for m, _ in leading]))
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
     hyps = () if fit == "empty" else tuple(
-        _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, seen, d)
+        _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d)
         for r, (members, gp) in enumerate(leading[:max(top, 1)]))
     segs = anatomy().segments
     names = d.pattern_names
@@ -379,7 +387,9 @@ class _Derived:
     cell: np.ndarray  # (n,) candidates of one pattern, side and rostral segment share a number (the prior's unit)
     hyp: np.ndarray  # (n,) hypothesis number: one clinical family (Pattern.family), side and rostral segment
     side: np.ndarray  # (n,) side of each candidate ("left", "right", "both")
-    log_prior: np.ndarray  # (n,) log prior before the size preference (see size_prior)
+    outside: np.ndarray  # (n,) bool: a lesion outside the cord (OUTSIDE_THE_CORD)
+    normal: np.ndarray  # (n,) bool: the normal cord
+    prior: np.ndarray  # (n,) float32 log prior (see size_prior)
 
 
 _DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
@@ -423,7 +433,11 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),
                                  np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
                        return_inverse=True)
-    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides, log_prior)
+    extent = (at.bottom - at.top + 1).astype(np.float32)
+    prior = (log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
+    prior.setflags(write=False)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides,
+                 np.isin(at.pattern_of, OUTSIDE_THE_CORD), at.pattern_of == NORMAL, prior)
     _DERIVED[id(at)] = (at, d)
     return d
 
@@ -496,17 +510,17 @@ def _leading(score: np.ndarray, n: int) -> np.ndarray:
 
 
 def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, score: np.ndarray, f: Findings,
-                items: list[tuple], seen: np.ndarray, d: _Derived) -> Hypothesis:
+                items: list[tuple], raw: np.ndarray, d: _Derived) -> Hypothesis:
     """The hypothesis `members` (one pattern, side and rostral segment; best first) in words, told by its best
-    member i; `seen[:, i]` holds i's weighted log-probability of the recorded value of each of `items`, `ll[i]`
-    its log-likelihood, `score` every candidate's log posterior (unnormalised)."""
+    member i; `raw[:, i]` holds i's log-probability of the recorded value of each of `items`, `ll[i]` its
+    (weighted) log-likelihood, `score` every candidate's log posterior (unnormalised)."""
     i = int(members[0])
     lesion = at.lesion(i)
     same = same_exam(at, i, score)
     others = tuple(at.lesion(int(j)) for j in listed(at, same))
     agree, conflict = [], []
     index = at.item_index
-    for key, c in zip(items, at.logp[observed_columns_of(f, at, items), i]):
+    for key, c in zip(items, raw[:, i]):
         entered = f.items[key]
         pv = item_values(key)[int(d.likely[index[key], i])]
         if np.exp(c) < 0.2:
@@ -528,11 +542,6 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     levels = _merge_levels([vertebral_levels(x) for x in (lesion, *variants, *others)])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
                       summary, others, len(same), variants)
-
-
-def observed_columns_of(f: Findings, at, items: list[tuple]) -> np.ndarray:
-    return np.array([int(at.offsets[at.item_index[k]]) + item_values(k).index(f.items[k]) for k in items],
-                    dtype=np.int64)
 
 
 def same_exam(at, i: int, score: np.ndarray) -> np.ndarray:
@@ -593,10 +602,11 @@ def suggest_tests(f: Findings, at, post, order, n: int = 5) -> tuple[NextTest, .
     candidates = [k for k in at.items if k not in f.items]
     if not candidates:
         return ()
+    logp = np.asarray(at.logp)
     gains = []
     for key in candidates:
         k = at.item_index[key]
-        p = np.exp(at.logp[at.offsets[k]:at.offsets[k + 1]][:, pool].astype(np.float64))  # (values, pool)
+        p = np.exp(logp[at.offsets[k]:at.offsets[k + 1], pool].astype(np.float64))  # (values, pool)
         pv = p @ w
         mi = float((w * (p * (np.log(p) - np.log(pv)[:, None]))).sum())
         gains.append(mi)
@@ -614,7 +624,7 @@ def suggest_tests(f: Findings, at, post, order, n: int = 5) -> tuple[NextTest, .
 def _why(key, at, pool, w) -> str:
     """One line: which two leading hypotheses this test separates, and what each expects."""
     k = at.item_index[key]
-    p = np.exp(at.logp[at.offsets[k]:at.offsets[k + 1]][:, pool])
+    p = np.exp(np.asarray(at.logp)[at.offsets[k]:at.offsets[k + 1], pool])
     expect = p.argmax(axis=0)
     first = 0
     for j in range(1, len(pool)):
