@@ -43,8 +43,9 @@ def _add_lesion_args(p, positional: bool = True):
 def _print_ranking(r, out=sys.stdout):
     w = out.write
     w(f"cordmap ranking - {r.examined} findings examined\n\n")
-    if r.fit == "poor":
-        w(f"!! POOR FIT: {r.advice}\n\n")
+    verdict = {"poor": "!! POOR FIT", "normal": "NORMAL", "empty": "NOTHING ENTERED"}.get(r.fit)
+    if verdict:
+        w(f"{verdict}: {r.advice}\n\n")
     for h in r.hypotheses:
         bar = "#" * max(1, round(h.probability * 30)) if h.probability >= 0.005 else "."
         w(f"{h.rank:>2}. {h.lesion.describe():<48} {h.probability:6.1%} {bar}\n")

@@ -134,7 +134,7 @@ class Ranking:
              "cautions": list(self.cautions),
              "marginals": {"pattern": {k: round(v, 4) for k, v in self.pattern_marginals.items()},
                            "top": {k: round(v, 4) for k, v in self.level_marginals.items()}}}
-        if self.fit == "poor":
+        if self.advice:
             d["advice"] = self.advice
         if self.classification is not None:
             d["classification"] = self.classification.to_dict()
@@ -496,7 +496,8 @@ def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int)
         elif len(out) < n:
             shown[g] = len(out)
             out.append((members, mass))
-    return out
+    order = sorted(range(len(out)), key=lambda k: -out[k][1])  # folding can reorder them (a stable sort)
+    return [out[k] for k in order]
 
 
 def _leading(score: np.ndarray, n: int) -> np.ndarray:

@@ -593,8 +593,9 @@ class ExamApp:
         """The poor-fit verdict, the leader and the selected hypothesis' cross-section."""
         r = self.ranking
         hyps = r.hypotheses
-        if r.fit == "poor":
-            self.poor.value = f"Poor fit: {esc(r.advice or 'no hypothesis explains these findings well')}"
+        verdict = {"poor": "Poor fit", "normal": "Normal", "empty": "Nothing entered"}.get(r.fit)
+        if verdict:
+            self.poor.value = f"{verdict}: {esc(r.advice or 'no hypothesis explains these findings well')}"
             self.poor.layout.display = None
         else:
             self.poor.value = ""

@@ -38,8 +38,9 @@ def report_png(findings, ranking, selected: int = 0, dpi: int = 110) -> bytes:
     hyps = ranking.hypotheses if ranking else ()
     y = 0.80
     fig.text(0.02, y + 0.02, "Lesion hypotheses, most likely first", fontsize=11, weight="bold", color=INK)
-    if ranking is not None and ranking.fit == "poor":
-        fig.text(0.02, y - 0.01, "POOR FIT: " + "\n".join(textwrap.wrap(ranking.advice or "", 80)), fontsize=9,
+    verdict = {"poor": "POOR FIT", "normal": "NORMAL", "empty": "NOTHING ENTERED"}.get(ranking.fit if ranking else "")
+    if verdict:
+        fig.text(0.02, y - 0.01, f"{verdict}: " + "\n".join(textwrap.wrap(ranking.advice or "", 80)), fontsize=9,
                  weight="bold", color="#4b2a7b", va="top")
         y -= 0.05
     for h in hyps[:6]:
