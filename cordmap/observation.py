@@ -24,7 +24,7 @@ SENSORY_CONFUSION = np.array([
 # boundary is found moving up from the numb zone, and an extrinsic compression's level lies below the lesion), less
 # often one high (from memory: ISNCSCI training material stresses level errors of one segment; false-localizing
 # levels below a compression, shared check values section 5). Judgement.
-BOUNDARY_SHIFT = {-1: 0.12, 0: 0.58, 1: 0.18, 2: 0.12}
+BOUNDARY_SHIFT = {-1: 0.08, 0: 0.72, 1: 0.12, 2: 0.08}
 # Modalities that travel in one pathway: charted at the same dermatome they are one look at that pathway, not two
 # (pinprick and temperature in the spinothalamic tract; vibration and joint position in the dorsal columns). Each
 # such item weighs 1 / (number of its pathway's modalities charted there). Light touch, carried by both, stands alone.
