@@ -11,6 +11,7 @@ import functools
 import html
 import threading
 import traceback
+from pathlib import Path
 
 import ipywidgets as W
 
@@ -692,7 +693,7 @@ def dashboard(findings=None, ranker=None, pictures_in_background: bool = True) -
     path = findings or os.environ.get("CORDMAP_FINDINGS")
     if path:
         try:
-            app._commit(parse(path), reason=f"loaded {os.path.basename(str(path))}")
+            app._commit(parse(Path(path)), reason=f"loaded {os.path.basename(str(path))}")
         except CordmapError as e:
             app.show_error(e)
     if pictures_in_background:
