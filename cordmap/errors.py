@@ -55,7 +55,8 @@ def bad_value(where: str, value: object, allowed: Iterable[str], what: str = "va
     """Build the standard one-line error, with a 'did you mean' hint when one fits."""
     allowed = [str(a) for a in allowed]
     hint: list[str] = []
-    if isinstance(value, (str, int, float)) and not isinstance(value, bool) and len(shown(value)) < SHOWN:
+    small = isinstance(value, str) and len(value) < SHOWN or isinstance(value, (int, float)) and abs(value) < 1e9
+    if small and not isinstance(value, bool):
         text = str(value).strip()
         hint = _nearest_segment(text, allowed)
         hint = hint or difflib.get_close_matches(text, allowed, n=1, cutoff=0.5)
