@@ -213,7 +213,8 @@ def cmd_batch(args):
 def cmd_serve(args):
     from .serve import serve
 
-    return serve(port=args.port, findings=args.findings)
+    return serve(port=args.port, findings=args.findings, token=not args.no_token, idle_timeout=args.idle_timeout,
+                 max_sessions=args.max_sessions)
 
 
 MAX_TOP = 100
@@ -265,6 +266,11 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("serve", help="start the dashboard on 127.0.0.1 and print its address")
     s.add_argument("--port", type=int, default=None)
     s.add_argument("--findings", default=None)
+    s.add_argument("--no-token", action="store_true",
+                   help="serve without a token (only on a single-user machine: any local user could open it)")
+    s.add_argument("--max-sessions", type=int, default=8, help="dashboard sessions (kernels) at once (default 8)")
+    s.add_argument("--idle-timeout", type=int, default=600,
+                   help="seconds a session with no open tab is kept before it is shut down (default 600)")
     s.set_defaults(func=cmd_serve)
     return p
 
