@@ -41,8 +41,8 @@ def _add_lesion_args(p, positional: bool = True):
     p.add_argument("--phase", default="chronic", help="chronic or acute (spinal shock)")
 
 
-def _print_ranking(r, out=sys.stdout):
-    w = out.write
+def _print_ranking(r, out=None):
+    w = (out or sys.stdout).write  # looked up at call time, so redirected output is honoured
     w(f"cordmap ranking - {r.examined} findings examined\n\n")
     if r.fit == "poor":
         w(f"!! POOR FIT: {r.advice}\n\n")
