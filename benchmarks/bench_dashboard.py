@@ -167,7 +167,8 @@ def main() -> int:
         browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
         port = serve.free_port()
         t0 = time.monotonic()
-        proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT)
+        proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT,
+                              max_sessions=a.sessions + 2)
         try:
             if not serve.wait_for_port(port, timeout=60, proc=proc):
                 print("the server did not start; see", Path(cdir) / "voila.log", file=sys.stderr)

@@ -13,14 +13,13 @@ from __future__ import annotations
 
 import hashlib
 import itertools
-import os
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
 
 import numpy as np
 
-from . import observation
+from . import cachedir, observation
 from .anatomy import anatomy
 from .findings import all_items, item_values
 from .forward import along_extent, fibre_losses_per_segment, readout
@@ -159,7 +158,11 @@ def model_version() -> str:
 
 
 def _cache_root() -> Path:
-    return Path(os.environ.get("CORDMAP_CACHE", Path.home() / ".cache" / "cordmap"))
+    """The cache folder cordmap owns (`cordmap.cachedir`: marked; a subfolder when $CORDMAP_CACHE is shared)."""
+    try:
+        return cachedir.folder()
+    except OSError:
+        return cachedir.folder(create=False)
 
 
 def _cache_path(phase: str) -> Path:
@@ -228,13 +231,7 @@ def _save(atlas: Atlas, path: Path) -> None:
             tmp.rename(path)
         except OSError:  # another process wrote it first
             shutil.rmtree(tmp, ignore_errors=True)
-        keep = f"atlas-{model_version()}-"
-        for old in path.parent.glob("atlas-*"):
-            if not old.name.startswith(keep):
-                if old.is_dir():
-                    shutil.rmtree(old, ignore_errors=True)
-                else:
-                    old.unlink(missing_ok=True)
+        cachedir.prune(keep_prefix=f"atlas-{model_version()}-")  # only folders this cache wrote
     except OSError:
         pass
 

@@ -3,13 +3,14 @@ from __future__ import annotations
 
 import argparse
 import csv
+import io
 import json
 import sys
 import time
 from pathlib import Path
 
 from . import cautions as C
-from .errors import CordmapError
+from .errors import CordmapError, shown
 from .lesions import PATTERNS, Lesion
 
 
@@ -40,8 +41,8 @@ def _add_lesion_args(p, positional: bool = True):
     p.add_argument("--phase", default="chronic", help="chronic or acute (spinal shock)")
 
 
-def _print_ranking(r, out=sys.stdout):
-    w = out.write
+def _print_ranking(r, out=None):
+    w = (out or sys.stdout).write  # looked up at call time, so redirected output is honoured
     w(f"cordmap ranking - {r.examined} findings examined\n\n")
     verdict = {"poor": "!! POOR FIT", "normal": "NORMAL", "empty": "NOTHING ENTERED"}.get(r.fit)
     if verdict:
@@ -97,18 +98,20 @@ def cmd_simulate(args):
 
 def cmd_section(args):
     from .anatomy import anatomy
+    from .files import check_output, write_atomic
     from .plotting import section_png
 
     anatomy().index(args.segment, "segment")
     lesion = _lesion(args, args.lesion) if args.lesion else None
-    Path(args.output).write_bytes(section_png(args.segment, lesion))
-    print(f"wrote {args.output}")
+    out = check_output(args.output, force=args.force)
+    write_atomic(out, section_png(args.segment, lesion), force=args.force)
+    print(f"wrote {out}")
 
 
 def cmd_rank(args):
     from .rank import rank
 
-    r = rank(args.file, top=args.top)
+    r = rank(Path(args.file), top=args.top)  # a Path: the argument is a file name, whatever its first character
     if args.json:
         print(r.to_json())
     else:
@@ -129,70 +132,23 @@ def cmd_classify(args):
     from .classify import classify, main_text
     from .findings import parse
 
-    c = classify(parse(args.file))
+    c = classify(parse(Path(args.file)))
     print(c.to_json() if args.json else main_text(c))
 
 
-def _read_cases(path: Path):
-    """Yield (case_id, document-or-error) from a JSONL file or a tidy CSV with a case_id column."""
-    from .findings import FORMAT
-
-    if path.suffix.lower() == ".jsonl":
-        for n, line in enumerate(path.read_text(encoding="utf-8").splitlines(), 1):
-            if not line.strip():
-                continue
-            try:
-                doc = json.loads(line)
-                cid = str(doc.pop("case_id", n)) if isinstance(doc, dict) else str(n)
-                yield cid, doc
-            except json.JSONDecodeError as e:
-                yield str(n), CordmapError(f"line {n}: not valid JSON ({e.msg})")
-        return
-    with path.open(newline="", encoding="utf-8") as fh:
-        rows = list(csv.DictReader(fh))
-    if rows and "case_id" not in rows[0]:
-        raise CordmapError(f"{path}: a cohort table needs a case_id column (and exam, name, side, segment, value)")
-    cases: dict[str, list[dict]] = {}
-    for row in rows:
-        cases.setdefault(row["case_id"], []).append(row)
-    import pandas as pd
-
-    from .findings import from_tidy
-
-    for cid, rws in cases.items():
-        phase = next((r["value"] for r in rws if r.get("exam") == "phase"), "chronic")
-        try:
-            yield cid, from_tidy(pd.DataFrame([r for r in rws if r.get("exam") != "phase"]), phase=phase)
-        except CordmapError as e:
-            yield cid, e
-    del FORMAT
+# fit: "empty" (nothing entered), "normal" (no lesion explains the findings better than a normal cord) or
+# "lesion"; the two-lesion check ("poor") is made by `cordmap rank` only (it costs a pair search per case).
+BATCH_FIELDS = ["case_id", "status", "fit", "pattern", "side", "top", "bottom", "params", "probability",
+                "vertebral_levels", "same_exam", "second", "second_probability", "error"]
 
 
-def cmd_batch(args):
+def _rank_cases(good: list, progress=None) -> dict[int, dict]:
+    """Rank many cases with one matrix product per chunk: {index in `good`: result row} (as rank() shows them)."""
     from . import atlas as atlas_mod
-    from .findings import parse
     from .lesions import NORMAL
     from .rank import batch_leaders, batch_scores
 
-    path = Path(args.file)
-    if not path.exists():
-        raise CordmapError(f"{path}: no such file")
-    good, bad, ids = [], [], []
-    for cid, doc in _read_cases(path):
-        try:
-            if isinstance(doc, Exception):
-                raise doc
-            good.append(parse(doc))
-            ids.append(cid)
-        except CordmapError as e:
-            bad.append((cid, str(e)))
-            print(f"case {cid}: skipped: {e}", file=sys.stderr)
-    # fit: "empty" (nothing entered), "normal" (no lesion explains the findings better than a normal cord) or
-    # "lesion"; the two-lesion check ("poor") is made by `cordmap rank` only (it costs a pair search per case).
-    fields = ["case_id", "status", "fit", "pattern", "side", "top", "bottom", "params", "probability",
-              "vertebral_levels", "same_exam", "second", "second_probability", "error"]
-    t0 = time.perf_counter()
-    rows = []
+    out: dict[int, dict] = {}
     for phase in ("chronic", "acute"):
         sel = [i for i, f in enumerate(good) if f.phase == phase]
         if not sel:
@@ -204,30 +160,72 @@ def cmd_batch(args):
             for row, i in zip(scores, chunk):
                 (les, p1, levels, same), (les2, p2, _, _) = batch_leaders(at, row, 2)  # as rank() lists them
                 fit = "empty" if not good[i].items else "normal" if les.pattern == NORMAL else "lesion"
-                rows.append({"case_id": ids[i], "status": "ok", "fit": fit, "pattern": les.pattern, "side": les.side,
-                             "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
-                             "probability": round(p1, 4), "vertebral_levels": " ".join(levels),
-                             "same_exam": "; ".join(o.describe() for o in same), "second": les2.describe(),
-                             "second_probability": round(p2, 4), "error": ""})
-            done = min(start + 256, len(sel))
-            bar = "#" * int(30 * done / len(sel))
-            print(f"\r{phase:>7} [{bar:<30}] {done}/{len(sel)}", end="", file=sys.stderr)
-        print(file=sys.stderr)
-    rows += [{"case_id": cid, "status": "error", "error": msg} for cid, msg in bad]
-    with open(args.output, "w", newline="", encoding="utf-8") as fh:
-        wr = csv.DictWriter(fh, fieldnames=fields)
-        wr.writeheader()
-        wr.writerows(rows)
+                out[i] = {"status": "ok", "fit": fit, "pattern": les.pattern, "side": les.side,
+                          "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
+                          "probability": round(p1, 4), "vertebral_levels": " ".join(levels),
+                          "same_exam": "; ".join(o.describe() for o in same), "second": les2.describe(),
+                          "second_probability": round(p2, 4), "error": ""}
+            if progress:
+                progress(phase, min(start + 256, len(sel)), len(sel))
+    return out
+
+
+def _progress(phase: str, done: int, total: int) -> None:
+    bar = "#" * int(30 * done / total)
+    print(f"\r{phase:>7} [{bar:<30}] {done}/{total}", end="\n" if done == total else "", file=sys.stderr)
+
+
+def cmd_batch(args):
+    """Every case of the input gets a row in the output, `ok` or its error; exit 2 when any case failed.
+
+    The output is checked before any work (its folder exists; it is not the input, not a folder, and does not
+    exist unless --force) and written through a temporary file renamed into place."""
+    from .cohort import read_cases
+    from .files import check_output, write_atomic
+
+    out = check_output(args.output, force=args.force, inputs=[args.file])
+    cases = list(read_cases(args.file))
+    good = [c.findings for c in cases if c.ok]
+    for c in cases:
+        if not c.ok:
+            print(f"case {c.case_id}: error: {c.error}", file=sys.stderr)
+    t0 = time.perf_counter()
+    results = _rank_cases(good, _progress)
+    by_case: list[dict] = []
+    k = 0
+    for c in cases:
+        if c.ok:
+            by_case.append({"case_id": c.case_id, **results[k]})
+            k += 1
+        else:
+            by_case.append({"case_id": c.case_id, "status": "error", "error": c.error})
+    buf = io.StringIO(newline="")
+    wr = csv.DictWriter(buf, fieldnames=BATCH_FIELDS, lineterminator="\n")
+    wr.writeheader()
+    wr.writerows(by_case)
+    write_atomic(out, buf.getvalue().encode("utf-8"), force=args.force)
     dt = time.perf_counter() - t0
-    print(f"ranked {len(good)} cases ({len(bad)} skipped) in {dt:.2f} s -> {args.output}", file=sys.stderr)
+    failed = len(cases) - len(good)
+    print(f"{len(cases)} cases: {len(good)} ranked, {failed} failed, in {dt:.2f} s -> {out}", file=sys.stderr)
     print(C.BANNER, file=sys.stderr)
-    return 0
+    return 2 if failed else 0
 
 
 def cmd_serve(args):
     from .serve import serve
 
-    return serve(port=args.port, findings=args.findings)
+    return serve(port=args.port, findings=args.findings, token=not args.no_token, idle_timeout=args.idle_timeout,
+                 max_sessions=args.max_sessions)
+
+
+MAX_TOP = 100
+
+
+def _count(text: str) -> int:
+    """argparse type of --top: a whole number 1..MAX_TOP (argparse turns the ValueError into a usage error)."""
+    if not text.strip().isascii() or not text.strip().isdigit() or not 1 <= int(text) <= MAX_TOP:
+        raise argparse.ArgumentTypeError(f"{shown(text, 20)} is not a whole number in 1..{MAX_TOP}")
+    return int(text)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -244,19 +242,22 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("--lesion", metavar="PATTERN", help="overlay a lesion of this pattern")
     _add_lesion_args(s, positional=False)
     s.add_argument("-o", "--output", default="section.png")
+    s.add_argument("--force", action="store_true", help="replace the output file if it exists")
     s.set_defaults(func=cmd_section)
     s = sub.add_parser("rank", help="rank lesion hypotheses for a findings file")
     s.add_argument("file")
-    s.add_argument("--top", type=int, default=10)
+    s.add_argument("--top", type=_count, default=10, help=f"hypotheses to list, 1..{MAX_TOP}")
     s.add_argument("--json", action="store_true")
     s.set_defaults(func=cmd_rank)
     s = sub.add_parser("batch", help="rank a cohort (CSV with case_id, or JSONL) into a CSV")
     s.add_argument("file")
-    s.add_argument("-o", "--output", required=True)
+    s.add_argument("-o", "--output", required=True, help="results CSV; never the input, an existing file only "
+                   "with --force")
+    s.add_argument("--force", action="store_true", help="replace the output file if it exists")
     s.set_defaults(func=cmd_batch)
     s = sub.add_parser("demo", help="rank a built-in invented demo case")
     s.add_argument("--case", default="thoracic-hemicord")
-    s.add_argument("--top", type=int, default=5)
+    s.add_argument("--top", type=_count, default=5, help=f"hypotheses to list, 1..{MAX_TOP}")
     s.add_argument("--json", action="store_true")
     s.set_defaults(func=cmd_demo)
     s = sub.add_parser("classify", help="ISNCSCI levels, completeness and impairment grade")
@@ -266,6 +267,11 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("serve", help="start the dashboard on 127.0.0.1 and print its address")
     s.add_argument("--port", type=int, default=None)
     s.add_argument("--findings", default=None)
+    s.add_argument("--no-token", action="store_true",
+                   help="serve without a token (only on a single-user machine: any local user could open it)")
+    s.add_argument("--max-sessions", type=int, default=8, help="dashboard sessions (kernels) at once (default 8)")
+    s.add_argument("--idle-timeout", type=int, default=600,
+                   help="seconds a session with no open tab is kept before it is shut down (default 600)")
     s.set_defaults(func=cmd_serve)
     return p
 

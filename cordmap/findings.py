@@ -14,15 +14,17 @@ A key that is missing was not examined. Nothing here treats "not examined" as "n
 from __future__ import annotations
 
 import json
+import os
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from pathlib import Path
 from types import MappingProxyType
 
 import pandas as pd
 
 from .anatomy import MODALITIES, REFLEXES, SIDES, TENDON_REFLEXES, anatomy
-from .errors import CordmapError, bad_value
+from .errors import CordmapError, bad_value, shown
+from .files import MAX_FINDINGS_BYTES, read_bounded
 
 FORMAT = "cordmap-findings/1"
 PHASES = ("chronic", "acute")
@@ -148,7 +150,7 @@ def _expand_range(spec: str, where: str) -> list[str]:
         if ch == "-" and spec[:i] in derms and spec[i + 1:] in derms:
             a, b = derms.index(spec[:i]), derms.index(spec[i + 1:])
             if a > b:
-                raise CordmapError(f"{where}: range {spec!r} runs caudal to rostral; write the rostral end first")
+                raise CordmapError(f"{where}: range {shown(spec)} runs caudal to rostral; write the rostral end first")
             return list(derms[a:b + 1])
     first = spec.split("-")[0]
     raise bad_value(where, first if first not in derms else spec, derms, "dermatome")
@@ -166,14 +168,14 @@ def _sensory_grade(v, where):
 
 def _mapping(obj, where) -> Mapping:
     if not isinstance(obj, Mapping):
-        raise CordmapError(f"{where}: expected an object, got {type(obj).__name__} {obj!r:.40}")
+        raise CordmapError(f"{where}: expected an object, got {type(obj).__name__} {shown(obj, 40)}")
     return obj
 
 
 def _known(keys, allowed, where, what):
     for k in keys:
-        if k not in allowed:
-            raise bad_value(f"{where}[{k!r}]" if where else repr(k), k, allowed, what)
+        if not isinstance(k, str) or k not in allowed:
+            raise bad_value(f"{where}[{shown(k, 40)}]" if where else shown(k, 40), k, allowed, what)
 
 
 def _one_line(text: str, limit: int = 120) -> str:
@@ -181,59 +183,54 @@ def _one_line(text: str, limit: int = 120) -> str:
     return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
-def _looks_like_json(text: str) -> bool:
-    """JSON text rather than a path: starts like a JSON value, or holds a newline (no path does)."""
-    t = text.lstrip()
-    return not t or t[0] in '{["-0123456789' or t.startswith(("true", "false", "null")) or "\n" in text
-
-
-def _read_file(path: Path):
-    shown = _one_line(repr(str(path)), 80)
-    if "\x00" in str(path):
-        raise CordmapError(f"{shown}: not a file name (it holds a null character)")
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise CordmapError(f"{shown}: no such findings file") from None
-    except IsADirectoryError:
-        raise CordmapError(f"{shown}: is a folder, not a findings file") from None
-    except UnicodeDecodeError as e:
-        raise CordmapError(f"{shown}: not UTF-8 text ({e.reason} at byte {e.start})") from None
-    except OSError as e:
-        raise CordmapError(f"{shown}: cannot be read ({_one_line(e.strerror or e)})") from None
+def loads(text: str | bytes, where: str = "findings", path_hint: bool = False):
+    """JSON text -> a Python value; every failure (bad syntax, deep nesting, an integer past Python's digit limit,
+    bad UTF-8) is a one-line `CordmapError`."""
+    if isinstance(text, (bytes, bytearray, memoryview)):
+        try:
+            text = bytes(text).decode("utf-8")
+        except UnicodeDecodeError as e:
+            raise CordmapError(f"{where}: not UTF-8 text ({e.reason} at byte {e.start})") from None
     try:
         return json.loads(text)
     except json.JSONDecodeError as e:
-        raise CordmapError(f"{shown}: not valid JSON ({_one_line(str(e))})") from None
+        hint = "; to read a file, pass a pathlib.Path, not a str" if path_hint and "{" not in text else ""
+        raise CordmapError(f"{where}: not valid JSON ({_one_line(e.msg)} at line {e.lineno} column {e.colno}){hint}") \
+            from None
+    except RecursionError:
+        raise CordmapError(f"{where}: not a findings document (JSON nested too deeply)") from None
+    except ValueError as e:  # e.g. an integer of more than 4,300 digits
+        raise CordmapError(f"{where}: not a findings document ({_one_line(e, 80)})") from None
+
+
+def read(path: str | os.PathLike) -> Findings:
+    """Read a findings file: a regular file of at most `MAX_FINDINGS_BYTES` holding one JSON document."""
+    name = shown(str(path), 80)
+    return parse(loads(read_bounded(path, "findings file", MAX_FINDINGS_BYTES), name))
 
 
 def parse(doc) -> Findings:
-    """Read a findings document from a dict, a JSON string, or a path to a JSON file."""
+    """Read a findings document. The form decides what `doc` is, never its first character:
+
+    a `Findings` is returned as it is; a mapping is the document; a `pathlib.Path` (or any ``os.PathLike``) is a
+    file to read (`read`); a `str` or `bytes` is JSON text. So ``parse(Path("2024-exam.json"))`` reads that file
+    and ``parse("2024-exam.json")`` is refused as JSON text, with a hint.
+    """
     if isinstance(doc, Findings):
         return doc
-    if isinstance(doc, bytes):
-        try:
-            doc = doc.decode("utf-8")
-        except UnicodeDecodeError as e:
-            raise CordmapError(f"findings: not UTF-8 text ({e.reason} at byte {e.start})") from None
-    if isinstance(doc, str) and not _looks_like_json(doc):
-        doc = Path(doc) if doc.strip() else doc
-    if isinstance(doc, Path):
-        doc = _read_file(doc)
-    elif isinstance(doc, str):
-        try:
-            doc = json.loads(doc)
-        except json.JSONDecodeError as e:
-            raise CordmapError(f"findings: not valid JSON ({_one_line(str(e))})") from None
+    if isinstance(doc, os.PathLike):
+        return read(doc)
+    if isinstance(doc, (str, bytes, bytearray, memoryview)):
+        doc = loads(doc, path_hint=isinstance(doc, str))
     doc = _mapping(doc, "findings")
     a = anatomy()
     fmt = doc.get("format")
     if fmt != FORMAT:
-        raise CordmapError(f"format: {fmt!r} is not a findings format this version reads; expected {FORMAT!r}")
+        raise CordmapError(f"format: {shown(fmt)} is not a findings format this version reads; expected {FORMAT!r}")
     _known(doc, ("format", "label", "phase", "sensory", "motor", "reflexes", "signs"), "", "key")
     label = doc.get("label", "")
     if not isinstance(label, str):
-        raise CordmapError(f"label: expected text, got {label!r:.40}")
+        raise CordmapError(f"label: expected text, got {shown(label, 40)}")
     phase = doc.get("phase", "chronic")
     if phase not in PHASES:
         raise bad_value("phase", phase, PHASES, "phase")
@@ -249,12 +246,14 @@ def parse(doc) -> Findings:
             entries = _mapping(entries, where0)
             seen: dict[str, tuple[int, str]] = {}
             for spec, grade in entries.items():
-                where = f"{where0}[{spec!r}]"
+                where = f"{where0}[{shown(spec, 40)}]"
+                if not isinstance(spec, str):
+                    raise bad_value(where, spec, ["C2..S4-5", "a range such as T10-L1"], "dermatome")
                 g = _sensory_grade(grade, where)
-                for d in _expand_range(str(spec), where):
+                for d in _expand_range(spec, where):
                     if d in seen and seen[d][0] != g:
                         raise CordmapError(f"{where}: {d} is also graded {SENSORY_NAMES[seen[d][0]]!r} "
-                                           f"by {seen[d][1]!r}; overlapping entries must agree")
+                                           f"by {shown(seen[d][1], 40)}; overlapping entries must agree")
                     seen[d] = (g, spec)
                     items[("sensory", mod, side, d)] = g
 
@@ -354,27 +353,91 @@ def to_document(f: Findings) -> dict:
     return doc
 
 
-def from_tidy(df: pd.DataFrame, label: str = "", phase: str = "chronic") -> Findings:
-    """Read one exam from a tidy table (columns exam, name, side, segment, value), as `Findings.tidy` writes."""
+TIDY_COLUMNS = ("exam", "name", "side", "segment", "value")
+_SMALL_NUMBER = re.compile(r"[0-9]{1,2}")  # ASCII digits only: int("²") fails, and a grade has one digit
+
+
+def _tidy_item(exam: str, name: str, side: str, seg: str) -> tuple:
+    """The item a tidy row speaks about, to find two rows that give one item two values."""
+    if exam == "sensory":
+        return (exam, name, side, seg)
+    if exam == "motor":
+        return (exam, side, seg)
+    if exam == "reflex":
+        return (exam, side, name)
+    if exam == "sign":
+        return (exam, name, side if name == "horner" else "")
+    return (exam,)
+
+
+def _tidy_value(exam: str, name: str, value: str) -> object:
+    """A tidy row's value as the document carries it ("4" for a tendon reflex is 4, "2" for motor is 2)."""
+    if exam in ("motor", "reflex") and _SMALL_NUMBER.fullmatch(value):
+        return int(value)
+    if exam == "sign":
+        return {"true": True, "false": False}.get(value.lower(), value)
+    return value
+
+
+def _canonical(exam: str, name: str, value: object) -> object:
+    """The value two rows are compared by: 'absent' and '0' for a sensory grade agree, as do 4 and 'brisk'."""
+    if exam == "sensory":
+        v = str(value).strip().lower()
+        return SENSORY_GRADES.get(v, int(v) if _SMALL_NUMBER.fullmatch(v) else v)
+    if exam == "reflex" and name in TENDON_REFLEXES and isinstance(value, int):
+        return NINDS.get(value, value)
+    if isinstance(value, str):
+        return value.strip().upper() if exam == "motor" else value.strip().lower()
+    return value
+
+
+def _cell(row, col) -> str:
+    v = row.get(col, "") if isinstance(row, Mapping) else getattr(row, col, "")
+    if v is None or v != v:  # a missing cell, or pandas' NaN
+        return ""
+    try:
+        return str(v).strip()
+    except (ValueError, RecursionError):  # an integer past Python's digit limit, a deeply nested value
+        return shown(v)
+
+
+def from_rows(rows, label: str = "", phase: str = "chronic", row_names=None) -> Findings:
+    """Read one exam from tidy rows (mappings or named tuples with exam, name, side, segment, value).
+
+    Two rows that give one item different values are an error naming both rows (``row_names`` gives the names,
+    e.g. the file's line numbers; by default row 1, 2, ...), as are two different phases. Rows that repeat a
+    value are accepted."""
     doc: dict = {"format": FORMAT, "label": label, "phase": phase}
-    for i, r in enumerate(df.itertuples(index=False)):
-        exam, name, side, seg, value = (str(getattr(r, c, "") if getattr(r, c, "") == getattr(r, c, "") else "")
-                                        .strip() for c in ("exam", "name", "side", "segment", "value"))
-        where = f"row {i + 1}"
+    seen: dict[tuple, tuple[object, str, str]] = {}
+    for i, r in enumerate(rows):
+        exam, name, side, seg, value = (_cell(r, c) for c in TIDY_COLUMNS)
+        where = row_names[i] if row_names is not None else f"row {i + 1}"
+        if exam not in ("sensory", "motor", "reflex", "sign", "phase"):
+            raise bad_value(f"{where}.exam", exam, ("sensory", "motor", "reflex", "sign", "phase"), "exam")
+        v = _tidy_value(exam, name, value)
+        key = _tidy_item(exam, name, side, seg)
+        canon = _canonical(exam, name, v)
+        if key in seen and seen[key][0] != canon:
+            item = " ".join(p for p in key if p)
+            raise CordmapError(f"{seen[key][2]} and {where} give {shown(item, 60)} two values: "
+                               f"{shown(seen[key][1], 30)} and {shown(value, 30)}; keep one row per item")
+        seen.setdefault(key, (canon, value, where))
         if exam == "sensory":
-            doc.setdefault("sensory", {}).setdefault(name, {}).setdefault(side, {})[seg] = value
+            doc.setdefault("sensory", {}).setdefault(name, {}).setdefault(side, {})[seg] = v
         elif exam == "motor":
-            doc.setdefault("motor", {}).setdefault(side, {})[seg] = int(value) if value.isdigit() else value
+            doc.setdefault("motor", {}).setdefault(side, {})[seg] = v
         elif exam == "reflex":
-            doc.setdefault("reflexes", {}).setdefault(side, {})[name] = int(value) if value.isdigit() else value
+            doc.setdefault("reflexes", {}).setdefault(side, {})[name] = v
         elif exam == "sign":
-            v: object = {"true": True, "false": False}.get(value.lower(), value)
             if name == "horner":
                 doc.setdefault("signs", {}).setdefault("horner", {})[side] = v
             else:
                 doc.setdefault("signs", {})[name] = v
-        elif exam == "phase":
-            doc["phase"] = value
         else:
-            raise bad_value(f"{where}.exam", exam, ("sensory", "motor", "reflex", "sign", "phase"), "exam")
+            doc["phase"] = value
     return parse(doc)
+
+
+def from_tidy(df: pd.DataFrame, label: str = "", phase: str = "chronic") -> Findings:
+    """Read one exam from a tidy table (columns exam, name, side, segment, value), as `Findings.tidy` writes."""
+    return from_rows(list(df.itertuples(index=False)), label, phase)

@@ -3,10 +3,25 @@
 The findings file reaches the notebook through the environment variable ``CORDMAP_FINDINGS``. The kernel
 websocket sets TCP_NODELAY (`NoDelayWebsocketConnection`): without it every second message of a quick pair waits
 for a delayed ACK, about 40 ms per round trip.
+
+Bounded and closed by default (each page load starts a kernel of about 290 MB):
+
+* a closed tab's kernel is shut down by the page itself (Voilà's own ``beforeunload`` call) and, when that call
+  never arrives, by Jupyter server's culler: a kernel with no open tab and no activity for ``idle_timeout``
+  seconds is shut down (``MappingKernelManager.cull_idle_timeout``, ``cull_interval``; ``cull_connected`` stays
+  False, so an open tab keeps its exam however long the clinician is away);
+* at most ``max_sessions`` kernels at once (`CappedKernelManager`); the next page load gets a page that says so
+  (HTTP 503, ``error.html`` of the cordmap template);
+* a random token in the address by default (``--no-token`` for a single-user laptop); it reaches the server in
+  the environment (``CORDMAP_SERVE_TOKEN``), not on the command line where other users' ``ps`` would show it;
+* the Host header is checked (Jupyter server's own check: loopback addresses and ``localhost`` only), against
+  DNS rebinding;
+* no tracebacks are sent to the page (``show_tracebacks`` off; the app logs them to the server's stderr).
 """
 from __future__ import annotations
 
 import os
+import secrets
 import shutil
 import signal
 import socket
@@ -22,6 +37,10 @@ from .errors import CordmapError
 ENV_FINDINGS = "CORDMAP_FINDINGS"
 DEFAULT_PORT = 8866
 IOPUB_TIMEOUT = 60  # seconds
+IDLE_TIMEOUT = 600  # seconds a kernel with no open tab may stay idle before it is shut down
+CULL_INTERVAL = 60  # seconds between the culler's rounds
+MAX_SESSIONS = 8  # kernels at once; about 290 MB each
+ENV_TOKEN = "CORDMAP_SERVE_TOKEN"  # the token reaches the server here; `run_voila` takes it out of the environment
 NOTEBOOK = Path(__file__).resolve().parent.parent / "dashboards" / "cordmap.ipynb"
 NOTEBOOK_TEXT = """{"cells": [{"cell_type": "code", "execution_count": null, "id": "cell-0", "metadata": {},
  "outputs": [], "source": ["import widgets\\n", "app = widgets.dashboard()\\n", "app.widget"]}],
@@ -48,6 +67,49 @@ else:
     NoDelayWebsocketConnection = None
 
 CONNECTION_CLASS = "cordmap.serve.NoDelayWebsocketConnection"
+KERNEL_MANAGER_CLASS = "cordmap.serve.CappedKernelManager"
+
+try:
+    from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
+except ImportError:
+    AsyncMappingKernelManager = None
+
+if AsyncMappingKernelManager is not None:
+    from tornado import web
+    from traitlets import Integer
+
+    class CappedKernelManager(AsyncMappingKernelManager):
+        """Jupyter server's kernel manager with a cap on the kernels alive at once: past it, a page load gets
+        HTTP 503 and the cordmap template's page that says the dashboard is full."""
+
+        max_kernels = Integer(MAX_SESSIONS, config=True, help="kernels (dashboard sessions) alive at once")
+
+        async def start_kernel(self, **kwargs):
+            if kwargs.get("kernel_id") is None and len(self.list_kernel_ids()) >= self.max_kernels:
+                raise web.HTTPError(503, f"all {self.max_kernels} dashboard sessions of this server are in use",
+                                    reason="Dashboard full")
+            return await super().start_kernel(**kwargs)
+else:
+    CappedKernelManager = None
+
+
+def run_voila() -> None:
+    """The Voilà server (run by `VOILA_LAUNCHER` in the server process): Voilà with Jupyter server's Host header
+    check switched back on (Voilà turns it off with ``allow_remote_access=True``) and the token taken out of the
+    environment once read, so kernels do not inherit it."""
+    from voila.app import Voila
+
+    class CordmapVoila(Voila):
+        def init_settings(self):
+            secret = os.environ.pop(ENV_TOKEN, "")
+            if secret:
+                self.token = secret
+            settings = super().init_settings()
+            settings["allow_remote_access"] = False
+            settings["local_hostnames"] = ["localhost"]
+            return settings
+
+    CordmapVoila.launch_instance()
 TEMPLATE = "cordmap"  # widgets/share/voila/templates/cordmap: the lab page without outside CDN links
 
 
@@ -101,25 +163,34 @@ def notebook_path(workdir: str | os.PathLike) -> Path:
 # pulled in through jupyter_events) is kept out: it builds a grammar at import that took 1.4 s of the server's
 # 2.4 s start here (python -X importtime), and the server validates no IRI-format fields. jsonschema skips a
 # format checker whose package is missing.
-VOILA_LAUNCHER = ("import runpy, sys; sys.modules.setdefault('rfc3987_syntax', None); "
-                  "runpy.run_module('voila', run_name='__main__', alter_sys=True)")
+VOILA_LAUNCHER = ("import sys; sys.modules.setdefault('rfc3987_syntax', None); "
+                  "from cordmap.serve import run_voila; run_voila()")
 
 
-def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "127.0.0.1") -> list[str]:
+def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "127.0.0.1",
+                  idle_timeout: int = IDLE_TIMEOUT, cull_interval: int = CULL_INTERVAL,
+                  max_sessions: int = MAX_SESSIONS) -> list[str]:
     template = [f"--template={TEMPLATE}"] if _template_share() else []
     return [sys.executable, "-c", VOILA_LAUNCHER, str(notebook), "--no-browser", f"--port={port}", f"--Voila.ip={host}",
             *template,
-            f"--Voila.connection_dir_root={connection_dir}", "--show_tracebacks=True",
+            f"--Voila.connection_dir_root={connection_dir}", "--VoilaConfiguration.show_tracebacks=False",
+            f"--VoilaConfiguration.multi_kernel_manager_class={KERNEL_MANAGER_CLASS}",
+            f"--CappedKernelManager.max_kernels={max_sessions}",
+            f"--MappingKernelManager.cull_idle_timeout={idle_timeout}",
+            f"--MappingKernelManager.cull_interval={cull_interval}",
+            "--MappingKernelManager.cull_connected=False",
             # the app's thousand widget messages can trail the cell's reply by more than nbclient's default 4 s
             # when several sessions start at once on two cores; past that timeout the page comes up empty
             f"--VoilaExecutor.iopub_timeout={IOPUB_TIMEOUT}",
             f"--Voila.kernel_websocket_connection_class={CONNECTION_CLASS}"]
 
 
-def server_env(findings: str | os.PathLike | None = None) -> dict[str, str]:
-    """The server's environment: no inherited MPLBACKEND (it reaches the kernel), the findings path if any."""
-    env = {k: v for k, v in os.environ.items() if k != "MPLBACKEND"}
-    env.pop(ENV_FINDINGS, None)
+def server_env(findings: str | os.PathLike | None = None, token: str = "") -> dict[str, str]:
+    """The server's environment: no inherited MPLBACKEND (it reaches the kernel), the findings path if any, the
+    token if any (the server drops it from its environment once read)."""
+    env = {k: v for k, v in os.environ.items() if k not in ("MPLBACKEND", ENV_TOKEN, ENV_FINDINGS)}
+    if token:
+        env[ENV_TOKEN] = token
     if findings is not None:
         env[ENV_FINDINGS] = str(Path(findings).resolve())
     root = str(Path(__file__).resolve().parent.parent)  # so the kernel imports this cordmap and widgets
@@ -130,12 +201,19 @@ def server_env(findings: str | os.PathLike | None = None) -> dict[str, str]:
     return env
 
 
+def new_token() -> str:
+    return secrets.token_urlsafe(24)
+
+
 def start(port: int, findings=None, host: str = "127.0.0.1", connection_dir: str | None = None,
-          stdout=None, stderr=None) -> tuple[subprocess.Popen, str]:
-    """Start Voilà in its own process group; returns (process, connection dir)."""
+          stdout=None, stderr=None, token: str = "", idle_timeout: int = IDLE_TIMEOUT,
+          cull_interval: int = CULL_INTERVAL, max_sessions: int = MAX_SESSIONS) -> tuple[subprocess.Popen, str]:
+    """Start Voilà in its own process group; returns (process, connection dir). `token` "" serves without one."""
     cdir = connection_dir or tempfile.mkdtemp(prefix="cordmap-voila-")
-    cmd = voila_command(port, notebook_path(cdir), cdir, host)
-    proc = subprocess.Popen(cmd, env=server_env(findings), start_new_session=True, stdout=stdout, stderr=stderr)
+    cmd = voila_command(port, notebook_path(cdir), cdir, host, idle_timeout=idle_timeout,
+                        cull_interval=cull_interval, max_sessions=max_sessions)
+    proc = subprocess.Popen(cmd, env=server_env(findings, token), start_new_session=True, stdout=stdout,
+                            stderr=stderr)
     return proc, cdir
 
 
@@ -154,8 +232,9 @@ def stop(proc: subprocess.Popen, timeout: float = 10.0) -> None:
         proc.wait(timeout=5)
 
 
-def serve(port: int | None = None, findings=None, host: str = "127.0.0.1") -> int:
-    """Serve the dashboard until Ctrl-C; returns an exit code (0 ok, 2 bad input, 1 server failure)."""
+def serve(port: int | None = None, findings=None, host: str = "127.0.0.1", token: bool = True,
+          idle_timeout: int = IDLE_TIMEOUT, max_sessions: int = MAX_SESSIONS) -> int:
+    """Serve the dashboard until Ctrl-C; returns an exit code (0 ok, 2 bad input or a server that would not start)."""
     if NoDelayWebsocketConnection is None or not _has_voila():
         print("cordmap serve: Voila is not installed; pip install 'cordmap[app]'", file=sys.stderr)
         return 2
@@ -175,18 +254,24 @@ def serve(port: int | None = None, findings=None, host: str = "127.0.0.1") -> in
     elif not port_is_free(port, host):
         print(f"cordmap serve: port {port} on {host} is in use; pick another with --port", file=sys.stderr)
         return 2
-    url = f"http://{host}:{port}/"
-    print(f"cordmap dashboard starting at {url}", flush=True)
+    if not 1 <= max_sessions <= 1000 or not 10 <= idle_timeout <= 7 * 86400:
+        print("cordmap serve: --max-sessions must be 1..1000 and --idle-timeout 10..604800 seconds", file=sys.stderr)
+        return 2
+    secret = new_token() if token else ""
+    url = f"http://{host}:{port}/" + (f"?token={secret}" if secret else "")
+    print(f"cordmap dashboard starting on {host}:{port}", flush=True)
     _stop_on_sigterm()
-    proc, cdir = start(port, findings, host)
+    proc, cdir = start(port, findings, host, token=secret, idle_timeout=idle_timeout, max_sessions=max_sessions)
     try:
         if not wait_for_port(port, host, timeout=60, proc=proc):
             print("cordmap serve: the server did not start (see the messages above)", file=sys.stderr)
             stop(proc)
-            return 1
+            return 2
         print(f"cordmap dashboard ready: {url}  (Ctrl-C stops it)", flush=True)
+        print(f"at most {max_sessions} sessions; a session with no open tab ends after {idle_timeout} s idle",
+              flush=True)
         print(BANNER, flush=True)
-        return proc.wait() and 1
+        return 2 if proc.wait() else 0
     except KeyboardInterrupt:
         stop(proc)
         return 0

@@ -30,7 +30,8 @@ def _missing(reason: str):
 
 @pytest.fixture(scope="session")
 def voila_server():
-    """Voilà on a free 127.0.0.1 port, in its own process group; yields the base URL."""
+    """Voilà on a free 127.0.0.1 port, in its own process group, with a token as `cordmap serve` runs it; yields
+    the address with the token."""
     try:
         import voila  # noqa: F401
 
@@ -40,13 +41,14 @@ def voila_server():
     port = serve.free_port()
     cdir = tempfile.mkdtemp(prefix="cordmap-test-voila-")
     log = open(Path(cdir) / "voila.log", "wb")  # noqa: SIM115 - closed below
-    proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT)
+    token = serve.new_token()
+    proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT, token=token)
     try:
         if not serve.wait_for_port(port, timeout=60, proc=proc):
             log.flush()
             text = (Path(cdir) / "voila.log").read_text(errors="replace")[-2000:]
             pytest.fail(f"Voilà did not open port {port}:\n{text}", pytrace=False)
-        yield f"http://127.0.0.1:{port}/"
+        yield f"http://127.0.0.1:{port}/?token={token}"
     finally:
         serve.stop(proc)  # SIGTERM, then SIGKILL of the group only if it hangs
         log.close()

@@ -1,6 +1,8 @@
 """Page helpers shared by the browser tests and benchmarks/bench_dashboard.py: the app's CSS hooks and waits."""
 from __future__ import annotations
 
+from pathlib import Path
+
 
 def cell_sel(mod: str, side: str, derm: str) -> str:
     """CSS selector of one dermatome cell."""
@@ -18,3 +20,31 @@ def click_and_wait(page, sel: str) -> None:
     page.click(sel)
     page.wait_for_function("([s, b]) => document.querySelector(s).title !== b", arg=[sel, before])
     wait_idle(page)
+
+
+def kernel_pids(server_pid: int) -> list[int]:
+    """The server's kernel processes (its children running ipykernel), from /proc."""
+    kids = []
+    for p in Path("/proc").iterdir():
+        if not p.name.isdigit():
+            continue
+        try:
+            stat = (p / "stat").read_text()
+            ppid = int(stat.rsplit(")", 1)[1].split()[1])
+            cmd = (p / "cmdline").read_bytes()
+        except (OSError, ValueError, IndexError):
+            continue
+        if ppid == server_pid and b"ipykernel" in cmd:
+            kids.append(int(p.name))
+    return kids
+
+
+def rss_mb(pid: int) -> float:
+    """Resident memory of one process in MB (0 when it is gone)."""
+    try:
+        for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+            if line.startswith("VmRSS:"):
+                return int(line.split()[1]) / 1024
+    except OSError:
+        pass
+    return 0.0

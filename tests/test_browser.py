@@ -126,9 +126,11 @@ def test_selecting_a_hypothesis_changes_the_section(demo_page, screenshot_dir):
 
 @pytest.mark.parametrize("name, content, message", [
     ("big.json", b"{" + b" " * 1_000_001 + b"}", "over the 1 MB limit"),
+    # past the server's 10 MiB websocket limit: the page sends the size, not the file (the template's guard)
+    ("huge.json", b"{" + b" " * 12_000_000 + b"}", "12,000,002 bytes is over the 1 MB limit"),
     ("notes.json", b"patient was seen on the ward", "not a findings document"),
     ("wrong.json", json.dumps({"format": "cordmap-findings/1", "motor": {"left": {"L3": 9}}}).encode(), "L3"),
-], ids=["too-big", "not-json", "bad-grade"])
+], ids=["too-big", "past-websocket-limit", "not-json", "bad-grade"])
 def test_bad_upload_shows_message_and_changes_nothing(demo_page, name, content, message):
     page = demo_page
     before_lead, before_case = lead(page), page.inner_text(".cm-case")

@@ -260,7 +260,7 @@ def test_callback_errors_are_shown_not_swallowed(app):
     before = app.findings
     app._ranker = broken
     app.entry[("sensory", "pinprick", "left", "C4")].click()  # through the guarded handler: must not raise
-    assert "ranker broke" in app.error.value
+    assert "RuntimeError" in app.error.value  # named by its type; the traceback went to stderr
     assert app.findings == before
     assert "cm-s" not in " ".join(c for c in app.entry[("sensory", "pinprick", "left", "C4")]._dom_classes
                                   if c in ("cm-s0", "cm-s1", "cm-s2")) or before.get(
@@ -352,3 +352,34 @@ def test_dashboard_draws_its_pictures_after_opening():
             t.join(60)
     assert bytes(app.section_img.value)[:8] == b"\x89PNG\r\n\x1a\n" and bytes(app.body_img.value)
     assert not app.errors
+
+
+def test_an_internal_fault_sends_no_traceback_to_the_page(app, capsys):
+    """A fault of the app itself is named by its type on the error line; the traceback goes to the server's log
+    (the kernel's stderr), not into any widget the page shows."""
+    def broken(*a, **k):
+        raise RuntimeError("secret internal detail\n  File \"/srv/x.py\", line 1")
+    before = lead(app)
+    app._ranker = broken
+    app.load_demo("sacral-saddle")
+    assert lead(app) == before  # the state is unchanged
+    shown = app.error.value
+    assert "RuntimeError" in shown and "server&#x27;s log" in shown
+    assert "Traceback" not in shown and "File " not in shown and "secret" not in shown
+    assert not app.log.outputs
+
+
+def test_upload_template_guard_matches_the_limit():
+    """The page reads a file over the limit as an empty slice and sends only its size (the template's script)."""
+    from pathlib import Path
+
+    import widgets
+
+    page = Path(widgets.__file__).parent / "share" / "voila" / "templates" / "cordmap" / "index.html.j2"
+    assert f"const UPLOAD_LIMIT = {MAX_UPLOAD};" in page.read_text()
+
+
+def test_an_upload_reported_over_the_limit_gets_a_message(app):
+    before = lead(app)
+    app.upload.value = upload_value("huge.json", b"", size=50_000_000)
+    assert "50,000,000 bytes is over the 1 MB limit" in app.errors[-1] and lead(app) == before

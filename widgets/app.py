@@ -9,8 +9,10 @@ from __future__ import annotations
 import base64
 import functools
 import html
+import sys
 import threading
 import traceback
+from pathlib import Path
 
 import ipywidgets as W
 
@@ -122,12 +124,17 @@ class ExamApp:
         return run
 
     def show_error(self, e: BaseException | str) -> None:
-        msg = str(e) if isinstance(e, CordmapError) or isinstance(e, str) else f"{type(e).__name__}: {e}"
+        """One line on the page. A fault of the app itself (not a `CordmapError`) is named by its type only; its
+        traceback goes to the server's log (the kernel's stderr), never to the page."""
+        if isinstance(e, (str, CordmapError)):
+            msg = str(CordmapError(e))  # one line, bounded
+        else:
+            msg = (f"something went wrong inside cordmap ({type(e).__name__}); nothing was changed. The details "
+                   "are in the server's log.")
+            print("".join(traceback.format_exception(e)), file=sys.__stderr__, flush=True)
         self.errors.append(msg)
         self.error.value = f"⚠ {esc(msg)}"
         self.error.layout.display = None
-        if not isinstance(e, (str, CordmapError)):
-            self.log.append_stderr("".join(traceback.format_exception(e)))
 
     def clear_error(self) -> None:
         self.error.value = ""
@@ -693,7 +700,7 @@ def dashboard(findings=None, ranker=None, pictures_in_background: bool = True) -
     path = findings or os.environ.get("CORDMAP_FINDINGS")
     if path:
         try:
-            app._commit(parse(path), reason=f"loaded {os.path.basename(str(path))}")
+            app._commit(parse(Path(path)), reason=f"loaded {os.path.basename(str(path))}")
         except CordmapError as e:
             app.show_error(e)
     if pictures_in_background:
