@@ -18,7 +18,10 @@ pytestmark = pytest.mark.browser
 DEMO = "thoracic-hemicord"
 # Grading pinprick on the right from T4 down moves the leader of the invented demo (measured in-process: the
 # fourth click, at T7, moves it up one segment); the test clicks until it changes, at most this many cells.
-CLICK_PATH = ["T4", "T5", "T6", "T7", "T8", "T9", "T10", "T11", "T12", "L1"]
+# Raise the demo's levels by two dermatomes, the left dorsal-column level first, then the right pinprick level:
+# a hemisection higher up (a level shown by one modality alone is not enough to move it).
+CLICK_PATH = [(m, s, d) for m, s in (("vibration", "left"), ("pinprick", "right"), ("light_touch", "left"))
+              for d in ("T4", "T5", "T6")]
 
 SECTION_DIGEST = """async () => {
   const img = document.querySelector('img.cm-section');
@@ -90,12 +93,12 @@ def test_clicking_cells_changes_the_leader(demo_page, screenshot_dir):
     page = demo_page
     first = lead(page)
     clicked = []
-    for d in CLICK_PATH:
-        click_cell(page, "pinprick", "right", d)
-        clicked.append(d)
+    for mod, side, d in CLICK_PATH:
+        click_cell(page, mod, side, d)
+        clicked.append(f"{mod} {side} {d}")
         if lead(page) != first:
             break
-    assert lead(page) != first, f"leader stayed {first!r} after clicking pinprick right {clicked}"
+    assert lead(page) != first, f"leader stayed {first!r} after clicking {clicked}"
     assert page.locator(".cm-error:visible").count() == 0
     page.screenshot(path=str(screenshot_dir / "dashboard-after-clicks.png"))
 
