@@ -171,11 +171,26 @@ def _posterolateral(sec, xs, side, p):
     # The degeneration begins in the dorsal columns and reaches the lateral columns later and less (from memory,
     # standard neurology teaching on combined degeneration): the dorsal columns lose twice the share `severity`
     # (all of it from severity 0.5), the dorsolateral funiculi the share `severity`; at 1 both are wholly lost.
+    # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms; from
+    # memory, standard neurology teaching on B12 deficiency): a laminated fibre's share grows with the length of
+    # its body segment's path, from LENGTH_SHARE[0] x severity at C1 to LENGTH_SHARE[1] x severity at S5.
     white = _white(sec)
     dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
     lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
-    return _thin(sec, dc, 2 * p["severity"]) | _thin(sec, lateral, p["severity"])
+    return _thin_by_length(sec, dc, 2 * p["severity"]) | _thin_by_length(sec, lateral, p["severity"])
+
+
+LENGTH_SHARE = (0.55, 1.45)
+
+
+def _thin_by_length(sec, mask, severity):
+    """`_thin` with a share that grows with the body segment of each laminated pixel (others: `severity`)."""
+    if severity >= 1:
+        return mask
+    body = np.where(sec.body >= 0, sec.body, 15) / 30.0
+    share = np.clip(severity * (LENGTH_SHARE[0] + (LENGTH_SHARE[1] - LENGTH_SHARE[0]) * body), 0.0, 1.0)
+    return mask & (_dither_rank(sec) < share)
 
 
 def _lateral_compression(sec, xs, side, p):
@@ -309,12 +324,12 @@ _BACK_DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5, 0.6), 0.02
                     "how far the compression reaches, as a fraction of the cord's depth (0.5 = half the cord)")
 
 # Longest extrinsic compression the ranker's atlas tries, in cord segments. A disc, a collapsed vertebra or a
-# tumour spans one to a few vertebral levels; a long epidural abscess or haematoma many more (from memory, standard
-# neurology and spine surgery teaching); twenty cord segments cover the cervical and thoracic cord. Longer ones are
-# near twins of a complete lesion (most round-trip misses of tests/test_rank.py were compressions of 20 segments and
-# more: 99.06% of candidates ranked first without the cap, 99.15% with it; a cap of 10 gave 99.42% but only 16,655
-# candidates). A lesion given by hand may be longer.
-COMPRESSION_MAX_EXTENT = 20
+# tumour spans one to a few vertebral levels (from memory, standard neurology and spine surgery teaching); eight
+# cord segments cover four to six vertebrae, a long epidural abscess or haematoma included. Since long tracts lose
+# the same share whatever the length (forward.LONG_TRACTS), a longer compression adds only root and gray-matter
+# signs all along its length, which at twenty segments faked a sensory level by destroying every segment's roots.
+# A lesion given by hand may be longer.
+COMPRESSION_MAX_EXTENT = 8
 # Rostral segments the atlas tries for the cord patterns other than the conus: down to L4 (from L5 down the cord is
 # the conus medullaris and its epiconus; a lesion there is the conus pattern's, so two names do not split one
 # picture).
