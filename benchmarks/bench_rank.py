@@ -95,7 +95,7 @@ def main():
         t0 = time.perf_counter()
         r = subprocess.run([sys.executable, "-m", "cordmap", "batch", src, "-o", out], capture_output=True, text=True)
         wall = time.perf_counter() - t0
-        m = re.search(r"ranked (\d+) cases .* in ([\d.]+) s", r.stderr)
+        m = re.search(r"(\d+) cases: \d+ ranked, \d+ failed, in ([\d.]+) s", r.stderr)
         if m:
             inner = float(m.group(2))
             print(f"cordmap batch, {m.group(1)} cases: ranking {inner:.2f} s = {int(m.group(1)) / inner:.0f} cases/s; "

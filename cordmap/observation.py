@@ -93,16 +93,26 @@ def _three_way_confusion(c: float) -> np.ndarray:
     return np.full((3, 3), (1 - c) / 2) + np.eye(3) * (c - (1 - c) / 2)
 
 
-def item_weights(keys) -> np.ndarray:
+def pathway_groups(items) -> np.ndarray:
+    """(len(items),) the group of each item for `item_weights`: sensory items of one pathway, side and dermatome
+    share a number (>= 0); every other item gets -1."""
+    groups: dict[tuple, int] = {}
+    return np.array([groups.setdefault((PATHWAYS[k[1]], k[2], k[3]), len(groups)) if k[0] == "sensory" else -1
+                     for k in items], dtype=np.int64)
+
+
+def item_weights(keys, groups: np.ndarray | None = None) -> np.ndarray:
     """How much each recorded item counts (1 = one independent observation): sensory items of one pathway charted
-    at the same side and dermatome share one observation (PATHWAYS); every other item counts once."""
-    count: dict[tuple, int] = {}
-    for k in keys:
-        if k[0] == "sensory":
-            g = (PATHWAYS[k[1]], k[2], k[3])
-            count[g] = count.get(g, 0) + 1
-    return np.array([1.0 / count[(PATHWAYS[k[1]], k[2], k[3])] if k[0] == "sensory" else 1.0 for k in keys],
-                    dtype=np.float32)
+    at the same side and dermatome share one observation (PATHWAYS); every other item counts once. `groups`, if
+    given, is `pathway_groups` of `keys` (computed once for a fixed item list)."""
+    g = pathway_groups(keys) if groups is None else np.asarray(groups)
+    if not len(g):
+        return np.zeros(0, dtype=np.float32)
+    sens = g >= 0
+    counts = np.bincount(g[sens], minlength=1)
+    w = np.ones(len(g), dtype=np.float32)
+    w[sens] = 1.0 / counts[g[sens]]
+    return w
 
 
 def crisp_indices(r: Readout, items: tuple) -> np.ndarray:

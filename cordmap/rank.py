@@ -148,20 +148,33 @@ class Ranking:
 
 def observed_columns(f: Findings, at: atlas_mod.Atlas) -> tuple[np.ndarray, list[tuple]]:
     """Atlas rows of the recorded values (NT and unknown items skipped) and the items they belong to."""
+    column = _columns(at)
     cols, items = [], []
-    index = at.item_index
     for key, value in f.items.items():
-        if value == "NT" or key not in index:
-            continue
-        cols.append(int(at.offsets[index[key]]) + item_values(key).index(value))
-        items.append(key)
+        c = column.get((key, value))
+        if c is not None:  # NT and items the atlas does not know are skipped
+            cols.append(c)
+            items.append(key)
     return np.array(cols, dtype=np.int64), items
+
+
+_COLUMNS: dict[int, tuple] = {}
+
+
+def _columns(at: atlas_mod.Atlas) -> dict:
+    """{(item, value): atlas row} for every value of every item (built once per atlas)."""
+    hit = _COLUMNS.get(id(at))
+    if hit is None or hit[0] is not at:
+        cols = {(k, v): int(at.offsets[i]) + j for i, k in enumerate(at.items) for j, v in enumerate(item_values(k))}
+        hit = _COLUMNS[id(at)] = (at, cols)
+    return hit[1]
 
 
 def evidence(f: Findings, at: atlas_mod.Atlas) -> tuple[np.ndarray, list[tuple], np.ndarray]:
     """`observed_columns` with how much each recorded item counts (`observation.item_weights`)."""
     cols, items = observed_columns(f, at)
-    return cols, items, observation.item_weights(items)
+    rows = np.searchsorted(at.offsets, cols, side="right") - 1
+    return cols, items, observation.item_weights(items, _derived(at).pathway_group[rows])
 
 
 def log_likelihood(f: Findings, at: atlas_mod.Atlas) -> np.ndarray:
@@ -389,6 +402,7 @@ class _Derived:
     side: np.ndarray  # (n,) side of each candidate ("left", "right", "both")
     outside: np.ndarray  # (n,) bool: a lesion outside the cord (OUTSIDE_THE_CORD)
     normal: np.ndarray  # (n,) bool: the normal cord
+    pathway_group: np.ndarray  # (items,) observation.pathway_groups of the atlas' items
     prior: np.ndarray  # (n,) float32 log prior (see size_prior)
 
 
@@ -437,7 +451,8 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     prior = (log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
     prior.setflags(write=False)
     d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides,
-                 np.isin(at.pattern_of, OUTSIDE_THE_CORD), at.pattern_of == NORMAL, prior)
+                 np.isin(at.pattern_of, OUTSIDE_THE_CORD), at.pattern_of == NORMAL,
+                 observation.pathway_groups(at.items), prior)
     _DERIVED[id(at)] = (at, d)
     return d
 
