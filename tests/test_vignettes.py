@@ -58,17 +58,17 @@ def test_bad_case_names_the_value(tmp_path):
 
 def test_corpus_figures_hold(results):
     """Floors at the figures measured when the corpus came in and the model and ranker were reworked against it
-    (python benchmarks/bench_vignettes.py: top-1 73%, top-3 80%, windows 86%, false alarms 5%, normal 100%):
+    (python benchmarks/bench_vignettes.py: top-1 75%, top-3 80%, windows 86%, false alarms 5%, normal 100%):
     a change that makes the ranking worse on textbook cases fails here."""
     s = casebook.summary(results)
     print("\ncorpus:", {k: round(v, 3) if isinstance(v, float) else v for k, v in s.items()})
     assert s["normal_called_normal"] == 1.0
-    assert s["top1"] >= 0.70 and s["top3"] >= 0.78 and s["window"] >= 0.84
+    assert s["top1"] >= 0.73 and s["top3"] >= 0.78 and s["window"] >= 0.84
     assert s["false_alarms"] <= 0.08
 
 
 @pytest.mark.xfail(strict=True, reason="the bars of 'Rank like a neurologist' are not met yet: measured top-1 "
-                                       "73%, top-3 80%, two-lesion flags 17% (see the issue's closing note)")
+                                       "75%, top-3 80%, two-lesion flags 17% (see the issue's closing note)")
 def test_corpus_meets_the_bars(results):
     s = casebook.summary(results)
     assert s["top1"] >= 0.90 and s["top3"] == 1.0 and s["window"] >= 0.90
