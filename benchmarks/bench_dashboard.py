@@ -27,11 +27,8 @@ sys.path.insert(0, str(ROOT))
 from cordmap import demo, serve  # noqa: E402
 from cordmap.anatomy import anatomy  # noqa: E402
 from cordmap.rank import rank  # noqa: E402
-from tests.dashboard_page import cell_sel, click_and_wait, wait_idle  # noqa: E402
+from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, cell_sel, click_and_wait, kernel_pids, wait_idle  # noqa: E402
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 VIEWPORT = {"width": 1366, "height": 768}
 DEMO = "thoracic-hemicord"
 CYCLE = {None: 2, 2: 1, 1: 0, 0: None}  # the app's click cycle (widgets.app.CYCLE)
@@ -118,24 +115,7 @@ def _proc_mb(pid: int, field: str, name: str) -> float:
 
 def kernel_pss_mb(server_pid: int) -> float:
     """Summed PSS of the kernels in MB: shared pages (the memory-mapped atlas, libraries) divided among sharers."""
-    return sum(_proc_mb(k, "Pss:", "smaps_rollup") for k in _kernels(server_pid))
-
-
-def _kernels(server_pid: int) -> list[int]:
-    """The server's kernel processes (its children running ipykernel), from /proc."""
-    kids = []
-    for p in Path("/proc").iterdir():
-        if not p.name.isdigit():
-            continue
-        try:
-            stat = (p / "stat").read_text()
-            ppid = int(stat.rsplit(")", 1)[1].split()[1])
-            cmd = (p / "cmdline").read_bytes()
-        except (OSError, ValueError, IndexError):
-            continue
-        if ppid == server_pid and b"ipykernel" in cmd:
-            kids.append(int(p.name))
-    return kids
+    return sum(_proc_mb(k, "Pss:", "smaps_rollup") for k in kernel_pids(server_pid))
 
 
 def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
@@ -143,7 +123,7 @@ def kernel_rss_mb(server_pid: int) -> tuple[int, float, float]:
     def rss(pid):
         return _proc_mb(pid, "VmRSS:", "status")
 
-    kids = _kernels(server_pid)
+    kids = kernel_pids(server_pid)
     return len(kids), sum(rss(k) for k in kids), rss(server_pid)
 
 
@@ -164,7 +144,7 @@ def main() -> int:
     cdir = tempfile.mkdtemp(prefix="cordmap-bench-voila-")
     log = open(Path(cdir) / "voila.log", "wb")  # noqa: SIM115
     with sync_playwright() as p:
-        browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
         port = serve.free_port()
         t0 = time.monotonic()
         proc, _ = serve.start(port, connection_dir=cdir, stdout=log, stderr=subprocess.STDOUT,

@@ -25,11 +25,8 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from cordmap import serve  # noqa: E402
-from tests.dashboard_page import kernel_pids, rss_mb  # noqa: E402
+from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, kernel_pids, rss_mb  # noqa: E402
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-        "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 READY_JS = ("() => { const t = document.querySelector('.cm-lead-text'); const i = document.querySelector("
             "'img.cm-section'); return t && t.offsetParent !== null && i && i.complete && i.naturalWidth > 0; }")
 
@@ -73,7 +70,7 @@ def main() -> int:
                           idle_timeout=a.idle, cull_interval=5, max_sessions=a.loads + 2)
     url = f"http://127.0.0.1:{port}/?token={token}"
     with sync_playwright() as p:
-        browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
+        browser = p.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
         try:
             if not serve.wait_for_port(port, timeout=60, proc=proc):
                 print("the server did not start; see", Path(cdir) / "voila.log", file=sys.stderr)

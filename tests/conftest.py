@@ -13,10 +13,8 @@ import time
 from pathlib import Path
 
 import pytest
+from dashboard_page import CHROMIUM, CHROMIUM_ARGS
 
-CHROMIUM = "/usr/bin/chromium"
-CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                 "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 VIEWPORT = {"width": 1366, "height": 768}
 SCREENSHOTS = Path(__file__).resolve().parent.parent / "out" / "screenshots"
 
@@ -86,7 +84,18 @@ def dashboard(browser, voila_server):
 
 
 def open_dashboard(browser, url: str, timeout_ms: int = 60_000):
-    """A new page at 1366x768 on the dashboard, returned once the first ranking is visible."""
+    """A new page at 1366x768 on the dashboard, returned once the first ranking is visible.
+
+    One retry: about one page load in ten never shows its first cross-section (measured in issue 13, cause still
+    open: suspected a race between the picture thread and the page's widget state). A second stall fails."""
+    try:
+        return _open_dashboard(browser, url, timeout_ms)
+    except Exception as e:  # playwright's TimeoutError
+        print(f"\ndashboard load stalled ({type(e).__name__}); one retry")
+        return _open_dashboard(browser, url, timeout_ms)
+
+
+def _open_dashboard(browser, url: str, timeout_ms: int):
     page = browser.new_page(viewport=VIEWPORT)
     page.set_default_timeout(timeout_ms)
     t0 = time.monotonic()

@@ -3,6 +3,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
+CHROMIUM = "/usr/bin/chromium"
+# The flags Chromium needs here: headless as root, and no background traffic (this machine's network is closed).
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+
 
 def cell_sel(mod: str, side: str, derm: str) -> str:
     """CSS selector of one dermatome cell."""
