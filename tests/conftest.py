@@ -97,11 +97,15 @@ def open_dashboard(browser, url: str, timeout_ms: int = 60_000):
 
 def _open_dashboard(browser, url: str, timeout_ms: int):
     page = browser.new_page(viewport=VIEWPORT)
-    page.set_default_timeout(timeout_ms)
-    t0 = time.monotonic()
-    page.goto(url, timeout=timeout_ms)
-    page.wait_for_selector(".cm-lead-text", state="visible", timeout=timeout_ms)
-    page.wait_for_function("() => { const i = document.querySelector('img.cm-section');"
-                           " return i && i.complete && i.naturalWidth > 0; }", timeout=timeout_ms)
+    try:
+        page.set_default_timeout(timeout_ms)
+        t0 = time.monotonic()
+        page.goto(url, timeout=timeout_ms)
+        page.wait_for_selector(".cm-lead-text", state="visible", timeout=timeout_ms)
+        page.wait_for_function("() => { const i = document.querySelector('img.cm-section');"
+                               " return i && i.complete && i.naturalWidth > 0; }", timeout=timeout_ms)
+    except Exception:
+        page.close()
+        raise
     page.cm_load_seconds = time.monotonic() - t0
     return page
