@@ -54,7 +54,7 @@ def _print_ranking(r, out=None):
             w(f"    or: {'; '.join(v.describe() for v in h.variants)} (imaging tells which)\n")
         if h.same_exam:
             w(f"    same predicted exam: {h.same_exam_text()} (no bedside test separates them; imaging does)\n")
-        w(f"    image vertebrae: {', '.join(h.vertebral_levels)}\n")
+        w(f"    image vertebrae: {', '.join(h.vertebral_levels) or 'none (no lesion)'}\n")
         if h.rank <= 3:
             for e in h.explains[:6]:
                 w(f"    + {e}\n")
