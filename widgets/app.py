@@ -665,6 +665,8 @@ class ExamApp:
                                       f"{n_dis} disagreement{'s' if n_dis != 1 else ''} marked")
         levels = ", ".join(h.vertebral_levels) or "—"
         lines = [f"<b>#{h.rank} {esc(les.describe())}</b>: image the spine at <b>{esc(levels)}</b>"]
+        if h.variants:
+            lines.append(f"or (imaging tells which): {esc('; '.join(v.describe() for v in h.variants))}")
         if h.same_exam:
             lines.append(f"same predicted exam (imaging tells them apart): {esc(h.same_exam_text())}")
         if h.explains:
