@@ -1,9 +1,9 @@
 """Rank lesion hypotheses against bedside findings.
 
-log-likelihood of a candidate = sum over the *examined* items of log P(recorded value | candidate) from the atlas
-(items not examined contribute nothing: not examined is never taken as normal); posterior = softmax(loglik +
-log prior). The prior is uniform up to a mild preference for smaller lesions (`size_prior`), replaceable by the
-caller.
+log-likelihood of a candidate = weighted sum over the *examined* items of log P(recorded value | candidate) from
+the atlas (items not examined contribute nothing: not examined is never taken as normal; `evidence`); posterior =
+softmax(loglik + log prior). The prior (`size_prior`) comes from the family table, replaceable by the caller.
+The grouping into hypotheses is `cordmap.hypotheses`; the fit verdict is `cordmap.fit`.
 """
 from __future__ import annotations
 
@@ -17,28 +17,32 @@ import pandas as pd
 from . import atlas as atlas_mod
 from . import cautions as C
 from . import observation
-from .anatomy import MODALITIES, SIDES, anatomy, family_priors
+from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, item_label, item_values, parse
-from .lesions import NORMAL, PATTERNS, Lesion
+from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
+from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read them here)
+    OUTSIDE_THE_CORD,
+    SAME_EXAM_SHOWN,
+    UNDETECTABLE,
+    _abnormal,
+    _Derived,
+    _derived,
+    _leading,
+    exam_groups,
+    leading_groups,
+    leading_hypotheses,
+    listed,
+    same_exam,
+    same_exam_groups,
+)
+from .lesions import NORMAL, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
-# Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
-# findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
-# corrupted still fit (see tests/test_rank.py) while two-lesion pictures do not.
-POOR_FIT_Z = 4.0
-POOR_FIT_NATS = 8.0
-# ...or when adding a second lesion to the best one improves the fit by more than this (nats): random exam errors
-# rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
-SECOND_LESION_GAIN = 10.0
-PAIR_GAP, PAIR_GAP_CORD = 1, 4  # segments between two lesions for them to count as separate (see separate())
-PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as the first lesion of a pair
 # Imaging window of a cord lesion, in cord segments around its rostral segment (see vertebral_levels): judgement
 # from common clinical practice (image above the sensory level; an extrinsic mass may lie several segments higher).
 WINDOW_ABOVE, WINDOW_ABOVE_COMPRESSION, WINDOW_BELOW_MIN, WINDOW_BELOW = 2, 3, 2, 4
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
-SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
-UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly normal (effectively zero)
 
 
 def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
@@ -189,74 +193,6 @@ def _softmax(x: np.ndarray) -> np.ndarray:
     return e / e.sum()
 
 
-def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) -> tuple[float, float]:
-    """Expected (weighted) log-likelihood of candidate i on its own simulated findings over `items`, and its
-    variance."""
-    lp = at.logp[:, i].astype(np.float64)
-    p = np.exp(lp)
-    starts = at.offsets[:-1]
-    m = np.add.reduceat(p * lp, starts)  # expected log-probability per item
-    m2 = np.add.reduceat(p * lp * lp, starts)
-    sel = np.array([at.item_index[k] for k in items])
-    return float(w @ m[sel]), float((w * w) @ (m2[sel] - m[sel] ** 2))
-
-
-def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
-              ) -> tuple[int, int, float]:
-    """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
-    (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
-    normal item (a second lesion adds its own findings; it is not used to deepen the first one's), so adding j to
-    i changes the fit by the (weighted) log-probabilities `seen` of those items. Returns (i, j, log-likelihood of
-    the pair)."""
-    rows = np.array([at.item_index[k] for k in items])
-    lead = int(firsts[0])
-    best = (lead, lead, float(ll[lead]))  # no second lesion: the single best
-    firsts = np.array([i for i in firsts if at.pattern_of[i] != NORMAL], dtype=np.int64)
-    # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
-    # first lesion tried explains all the abnormal findings, there is nothing to search for.
-    recorded = np.array([_abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
-    unexplained = recorded[:, None] & (at.abnormal[rows][:, firsts] == 0)
-    if not len(firsts) or not unexplained.any():
-        return best
-    pos = (at.abnormal[rows] > 0).astype(np.float32)  # (examined, candidates): j predicts the item abnormal
-    z = (pos[:, firsts] == 0).T.astype(np.float32)  # (firsts, examined): i predicts the item normal
-    # gain[k, j]: the change in fit from adding j to firsts[k], over the items firsts[k] predicts normal and j not
-    gain = z @ (seen * pos) - (z * seen[:, firsts].T) @ pos
-    for k, i in enumerate(firsts):
-        g = np.where(separate(at, int(i)), gain[k], -np.inf)
-        j = int(g.argmax())
-        if ll[i] + g[j] > best[2]:
-            best = (int(i), j, float(ll[i] + g[j]))
-    return best
-
-
-def separate(at, i: int) -> np.ndarray:
-    """(candidates,) which lesions count as a second, separate lesion beside candidate i: their segments lie more
-    than PAIR_GAP segments from i's (PAIR_GAP_CORD for two cord lesions), or both lie outside the cord on opposite
-    sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
-    compression, an intramedullary tumour with a cyst), not two lesions."""
-    d = _derived(at)
-    outside = d.outside
-    gap = np.where(outside | outside[i], PAIR_GAP, PAIR_GAP_CORD)
-    apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
-    sides = d.side
-    opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
-    return (apart | opposite) & ~d.normal
-
-
-def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,
-               leaders: np.ndarray) -> tuple[str, int, float]:
-    """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
-    what the pair gains in (weighted) nats over the best single lesion. `seen` holds the weighted log-probability
-    of each recorded value (examined x candidates); `leaders` the best member of each leading hypothesis."""
-    b = int(leaders[0])
-    mean, var = _self_fit(at, b, items, w)
-    gap = mean - float(ll[b])
-    first, second, pair = best_pair(at, items, values, seen, ll, leaders[:PAIR_FIRSTS])
-    gain = pair - float(ll[b])
-    poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
-    return ("poor" if poor else "good"), (second if first == b else first), gain
-
 
 def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray] | None = None,
          next_tests: int = 5, classify: bool = True) -> Ranking:
@@ -390,140 +326,6 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
     return out
 
 
-@dataclass(frozen=True)
-class _Derived:
-    """Per-atlas arrays the ranking reuses: each candidate's most likely value of every item, pattern codes."""
-    likely: np.ndarray  # (items, n) index of the most likely value
-    pattern_names: tuple[str, ...]
-    pattern_code: np.ndarray  # (n,) index into pattern_names
-    group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
-    cell: np.ndarray  # (n,) candidates of one pattern, side and rostral segment share a number (the prior's unit)
-    hyp: np.ndarray  # (n,) hypothesis number: one clinical family (Pattern.family), side and rostral segment
-    side: np.ndarray  # (n,) side of each candidate ("left", "right", "both")
-    outside: np.ndarray  # (n,) bool: a lesion outside the cord (OUTSIDE_THE_CORD)
-    normal: np.ndarray  # (n,) bool: the normal cord
-    pathway_group: np.ndarray  # (items,) observation.pathway_groups of the atlas' items
-    prior: np.ndarray  # (n,) float32 log prior (see size_prior)
-
-
-_DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
-
-
-def _derived(at: atlas_mod.Atlas) -> _Derived:
-    hit = _DERIVED.get(id(at))
-    if hit is not None and hit[0] is at:
-        return hit[1]
-    names, code = np.unique(at.pattern_of, return_inverse=True)
-    code = code.ravel()
-    group = same_exam_groups(at.likely)
-    sides = np.array([v.side for v in at.variants])[at.variant]
-    _, cell = np.unique(np.stack([code, np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
-                        return_inverse=True)
-    cell = cell.ravel()
-    priors = family_priors()
-    segs = anatomy().segments
-    cell_code = np.zeros(cell.max() + 1, dtype=np.int64)
-    cell_code[cell] = code
-    cell_top = np.zeros(cell.max() + 1, dtype=np.int64)
-    cell_top[cell] = at.top
-    # each family's weight spread over its hypotheses, the common levels weighing `factor` times more
-    cell_w = np.array([priors[names[c]].factor if segs[t] in priors[names[c]].common else 1.0
-                       for c, t in zip(cell_code, cell_top)])
-    fam_w = np.array([priors[str(n)].weight for n in names])
-    cell_share = cell_w / np.bincount(cell_code, weights=cell_w, minlength=len(names))[cell_code]
-    _, sub = np.unique(np.stack([cell, group]), axis=1, return_inverse=True)  # (hypothesis, exam) pairs
-    sub = sub.ravel()
-    sub_cell = np.zeros(sub.max() + 1, dtype=np.int64)
-    sub_cell[sub] = cell
-    exams_per_cell = np.bincount(sub_cell)
-    log_prior = (np.log(fam_w[code] / fam_w.sum()) + np.log(cell_share[cell]) - np.log(exams_per_cell[cell])
-                 - np.log(np.bincount(sub)[sub]))
-    # A lesion predicting a wholly normal exam cannot be found at the bedside: on any exam it is the normal cord's
-    # twin, so it is left out (no prior mass) rather than listed as a lesion that explains nothing.
-    normal = np.flatnonzero(at.pattern_of == NORMAL)
-    if len(normal):
-        log_prior[(group == group[normal[0]]) & (code != code[normal[0]])] = UNDETECTABLE
-    fam = np.array([PATTERNS[str(n)].family for n in names])[code]
-    _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),
-                                 np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
-                       return_inverse=True)
-    extent = (at.bottom - at.top + 1).astype(np.float32)
-    prior = (log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
-    prior.setflags(write=False)
-    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides,
-                 np.isin(at.pattern_of, OUTSIDE_THE_CORD), at.pattern_of == NORMAL,
-                 observation.pathway_groups(at.items), prior)
-    _DERIVED[id(at)] = (at, d)
-    return d
-
-
-def exam_groups(at: atlas_mod.Atlas) -> np.ndarray:
-    """The atlas' same-exam group number per candidate (cached with the atlas)."""
-    return _derived(at).group
-
-
-def same_exam_groups(likely: np.ndarray) -> np.ndarray:
-    """(n,) group number per candidate: equal numbers for equal columns of `likely` (items, n), that is for
-    candidates predicting the same bedside exam. Numbers are dense from 0."""
-    rows = np.ascontiguousarray(likely.T)
-    keys = rows.view(np.dtype((np.void, rows.shape[1] * rows.itemsize))).ravel()
-    _, group = np.unique(keys, return_inverse=True)
-    return group.ravel()
-
-
-def leading_groups(score: np.ndarray, post: np.ndarray, group: np.ndarray, n: int
-                   ) -> list[tuple[np.ndarray, float]]:
-    """The n most probable same-exam groups: (members best first, group probability), most probable first.
-
-    A group's probability is the sum of its members' posteriors `post`; groups too improbable to register in
-    float64 come after, ordered by their best member's `score` (log posterior, unnormalised)."""
-    mass = np.bincount(group, weights=post)
-    live = np.flatnonzero(mass > 0)
-    if len(live) > n:
-        live = live[np.argpartition(-mass[live], n - 1)[:n]]
-    order = live[np.lexsort((live, -mass[live]))].tolist()
-    if len(order) < n:  # the rest by their best member, best first (a stable sort keeps ties in index order)
-        for i in np.argsort(-score, kind="stable"):
-            g = int(group[i])
-            if mass[g] == 0 and g not in order:
-                order.append(g)
-                if len(order) == n:
-                    break
-    out = []
-    for g in order:
-        members = np.flatnonzero(group == g)
-        members = members[np.lexsort((members, -score[members]))]
-        out.append((members, float(mass[g])))
-    return out
-
-
-def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int) -> list[tuple[np.ndarray, float]]:
-    """The n most probable hypotheses (pattern, side, rostral segment): (members best first, probability), most
-    probable first. A hypothesis whose best lesion predicts the same bedside exam as a more probable one's is folded
-    into it (its probability added; the lesion is listed there as the same exam): no bedside test separates them."""
-    out: list[tuple[np.ndarray, float]] = []
-    shown: dict[int, int] = {}
-    for members, mass in leading_groups(score, post, d.hyp, max(4 * n, n + 20)):
-        g = int(d.group[members[0]])
-        if g in shown:
-            k = shown[g]
-            out[k] = (out[k][0], out[k][1] + mass)
-        elif len(out) < n:
-            shown[g] = len(out)
-            out.append((members, mass))
-    order = sorted(range(len(out)), key=lambda k: -out[k][1])  # folding can reorder them (a stable sort)
-    return [out[k] for k in order]
-
-
-def _leading(score: np.ndarray, n: int) -> np.ndarray:
-    """Indices of the n highest scores, best first, ties in index order (as a stable full sort would give)."""
-    if n >= len(score):
-        return np.argsort(-score, kind="stable")
-    kth = -np.partition(-score, n - 1)[n - 1]
-    above = np.flatnonzero(score > kth)
-    part = np.concatenate([above, np.flatnonzero(score == kth)[: n - len(above)]])
-    return part[np.lexsort((part, -score[part]))]
-
 
 def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, score: np.ndarray, f: Findings,
                 items: list[tuple], raw: np.ndarray, d: _Derived) -> Hypothesis:
@@ -560,29 +362,6 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
                       summary, others, len(same), variants)
 
 
-def same_exam(at, i: int, score: np.ndarray) -> np.ndarray:
-    """Candidates of other hypotheses predicting exactly candidate i's bedside exam, best first (none for the
-    normal cord: the lesions too small to show at the bedside are not worth naming)."""
-    d = _derived(at)
-    if at.pattern_of[i] == NORMAL:
-        return np.zeros(0, dtype=np.int64)
-    m = np.flatnonzero((d.group == d.group[i]) & (d.hyp != d.hyp[i]))
-    return m[np.lexsort((m, -score[m]))]
-
-
-def listed(at, members: np.ndarray) -> np.ndarray:
-    """Of `members` (best first), the ones a hypothesis names: the best of each pattern first (a conus lesion
-    beside a cauda equina one matters more than a third cauda variant), then the next best; SAME_EXAM_SHOWN at
-    most, one per hypothesis (pattern, side, rostral segment)."""
-    d = _derived(at)
-    _, one = np.unique(d.hyp[members], return_index=True)
-    members = members[np.sort(one)]
-    pats = at.pattern_of[members]
-    _, first = np.unique(pats, return_index=True)
-    firsts = set(first.tolist())
-    order = sorted(range(len(members)), key=lambda k: (k not in firsts, k))
-    return members[order[:SAME_EXAM_SHOWN]]
-
 
 _SPINE = [f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)] + \
     ["S1", "sacrum"]
@@ -596,17 +375,6 @@ def _merge_levels(lists: list[tuple[str, ...]]) -> tuple[str, ...]:
     return tuple(sorted(seen, key=lambda v: (_SPINE.index(v.split("-")[0]) if v.split("-")[0] in _SPINE
                                              else len(_SPINE), "-" in v)))
 
-
-def _abnormal(key, value) -> bool:
-    if key[0] == "sensory":
-        return value != 2
-    if key[0] == "motor":
-        return value != 5
-    if key[0] == "reflex":
-        return value not in ("normal", "present", "flexor") or (key[2] == "hoffmann" and value == "present")
-    if key[1] == "horner":
-        return bool(value)
-    return value not in (True, "present", "normal")
 
 
 # ------------------------------------------------------------------ next best test
@@ -662,9 +430,6 @@ COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compres
 # lumbar radiculopathy. Judgement, checked in tests/test_rank.py.
 CAUTION_EXPLAINS = 0.9
 CAUTION_MASS = 0.05  # share of the explaining posterior that raises a level-dependent caution
-# Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
-# dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
-OUTSIDE_THE_CORD = ("root", "cauda_equina", NORMAL)
 
 
 def _myelopathy_signs(f: Findings) -> bool:

@@ -1,0 +1,88 @@
+"""The fit verdict: does one lesion explain the exam, or would a second, separate one explain it much better?"""
+from __future__ import annotations
+
+import numpy as np
+
+from . import atlas as atlas_mod
+from .hypotheses import _abnormal, _derived
+from .lesions import NORMAL
+
+# Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
+# findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
+# corrupted still fit (see tests/test_rank.py) while two-lesion pictures do not.
+POOR_FIT_Z = 4.0
+POOR_FIT_NATS = 8.0
+# ...or when adding a second lesion to the best one improves the fit by more than this (nats): random exam errors
+# rarely cluster the way one more lesion's findings do. Judgement, checked in tests/test_rank.py.
+SECOND_LESION_GAIN = 10.0
+PAIR_GAP, PAIR_GAP_CORD = 1, 4  # segments between two lesions for them to count as separate (see separate())
+PAIR_FIRSTS = 8  # the best members of this many leading hypotheses are tried as the first lesion of a pair
+
+
+def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) -> tuple[float, float]:
+    """Expected (weighted) log-likelihood of candidate i on its own simulated findings over `items`, and its
+    variance."""
+    lp = at.logp[:, i].astype(np.float64)
+    p = np.exp(lp)
+    starts = at.offsets[:-1]
+    m = np.add.reduceat(p * lp, starts)  # expected log-probability per item
+    m2 = np.add.reduceat(p * lp * lp, starts)
+    sel = np.array([at.item_index[k] for k in items])
+    return float(w @ m[sel]), float((w * w) @ (m2[sel] - m[sel] ** 2))
+
+
+def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
+              ) -> tuple[int, int, float]:
+    """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
+    (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
+    normal item (a second lesion adds its own findings; it is not used to deepen the first one's), so adding j to
+    i changes the fit by the (weighted) log-probabilities `seen` of those items. Returns (i, j, log-likelihood of
+    the pair)."""
+    rows = np.array([at.item_index[k] for k in items])
+    lead = int(firsts[0])
+    best = (lead, lead, float(ll[lead]))  # no second lesion: the single best
+    firsts = np.array([i for i in firsts if at.pattern_of[i] != NORMAL], dtype=np.int64)
+    # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
+    # first lesion tried explains all the abnormal findings, there is nothing to search for.
+    recorded = np.array([_abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
+    unexplained = recorded[:, None] & (at.abnormal[rows][:, firsts] == 0)
+    if not len(firsts) or not unexplained.any():
+        return best
+    pos = (at.abnormal[rows] > 0).astype(np.float32)  # (examined, candidates): j predicts the item abnormal
+    z = (pos[:, firsts] == 0).T.astype(np.float32)  # (firsts, examined): i predicts the item normal
+    # gain[k, j]: the change in fit from adding j to firsts[k], over the items firsts[k] predicts normal and j not
+    gain = z @ (seen * pos) - (z * seen[:, firsts].T) @ pos
+    for k, i in enumerate(firsts):
+        g = np.where(separate(at, int(i)), gain[k], -np.inf)
+        j = int(g.argmax())
+        if ll[i] + g[j] > best[2]:
+            best = (int(i), j, float(ll[i] + g[j]))
+    return best
+
+
+def separate(at, i: int) -> np.ndarray:
+    """(candidates,) which lesions count as a second, separate lesion beside candidate i: their segments lie more
+    than PAIR_GAP segments from i's (PAIR_GAP_CORD for two cord lesions), or both lie outside the cord on opposite
+    sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
+    compression, an intramedullary tumour with a cyst), not two lesions."""
+    d = _derived(at)
+    outside = d.outside
+    gap = np.where(outside | outside[i], PAIR_GAP, PAIR_GAP_CORD)
+    apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
+    sides = d.side
+    opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
+    return (apart | opposite) & ~d.normal
+
+
+def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,
+               leaders: np.ndarray) -> tuple[str, int, float]:
+    """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
+    what the pair gains in (weighted) nats over the best single lesion. `seen` holds the weighted log-probability
+    of each recorded value (examined x candidates); `leaders` the best member of each leading hypothesis."""
+    b = int(leaders[0])
+    mean, var = _self_fit(at, b, items, w)
+    gap = mean - float(ll[b])
+    first, second, pair = best_pair(at, items, values, seen, ll, leaders[:PAIR_FIRSTS])
+    gain = pair - float(ll[b])
+    poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
+    return ("poor" if poor else "good"), (second if first == b else first), gain

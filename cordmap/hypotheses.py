@@ -1,0 +1,198 @@
+"""Hypotheses: how the ranker groups the atlas' candidates, per atlas and computed once.
+
+A hypothesis is one clinical family (`Pattern.family`), side and rostral segment; its probability is the sum of
+its variants'. Candidates predicting the same bedside exam share an exam group; a hypothesis whose best lesion
+predicts the same exam as a more probable one's is folded into it (`leading_hypotheses`). The prior of every
+candidate (`_Derived.prior`) comes from the family table `data/priors.csv` (see `rank.size_prior`).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import atlas as atlas_mod
+from . import observation
+from .anatomy import anatomy, family_priors
+from .lesions import NORMAL, PATTERNS
+
+SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
+UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly normal (effectively zero)
+
+# Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
+# dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
+OUTSIDE_THE_CORD = ("root", "cauda_equina", NORMAL)
+
+
+
+def _abnormal(key, value) -> bool:
+    if key[0] == "sensory":
+        return value != 2
+    if key[0] == "motor":
+        return value != 5
+    if key[0] == "reflex":
+        return value not in ("normal", "present", "flexor") or (key[2] == "hoffmann" and value == "present")
+    if key[1] == "horner":
+        return bool(value)
+    return value not in (True, "present", "normal")
+
+
+
+@dataclass(frozen=True)
+class _Derived:
+    """Per-atlas arrays the ranking reuses: each candidate's most likely value of every item, pattern codes."""
+    likely: np.ndarray  # (items, n) index of the most likely value
+    pattern_names: tuple[str, ...]
+    pattern_code: np.ndarray  # (n,) index into pattern_names
+    group: np.ndarray  # (n,) candidates with the same `likely` column (the same predicted exam) share a number
+    cell: np.ndarray  # (n,) candidates of one pattern, side and rostral segment share a number (the prior's unit)
+    hyp: np.ndarray  # (n,) hypothesis number: one clinical family (Pattern.family), side and rostral segment
+    side: np.ndarray  # (n,) side of each candidate ("left", "right", "both")
+    outside: np.ndarray  # (n,) bool: a lesion outside the cord (OUTSIDE_THE_CORD)
+    normal: np.ndarray  # (n,) bool: the normal cord
+    pathway_group: np.ndarray  # (items,) observation.pathway_groups of the atlas' items
+    prior: np.ndarray  # (n,) float32 log prior (see size_prior)
+
+
+_DERIVED: dict[int, tuple[atlas_mod.Atlas, _Derived]] = {}
+
+
+def _derived(at: atlas_mod.Atlas) -> _Derived:
+    hit = _DERIVED.get(id(at))
+    if hit is not None and hit[0] is at:
+        return hit[1]
+    names, code = np.unique(at.pattern_of, return_inverse=True)
+    code = code.ravel()
+    group = same_exam_groups(at.likely)
+    sides = np.array([v.side for v in at.variants])[at.variant]
+    _, cell = np.unique(np.stack([code, np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
+                        return_inverse=True)
+    cell = cell.ravel()
+    priors = family_priors()
+    segs = anatomy().segments
+    cell_code = np.zeros(cell.max() + 1, dtype=np.int64)
+    cell_code[cell] = code
+    cell_top = np.zeros(cell.max() + 1, dtype=np.int64)
+    cell_top[cell] = at.top
+    # each family's weight spread over its hypotheses, the common levels weighing `factor` times more
+    cell_w = np.array([priors[names[c]].factor if segs[t] in priors[names[c]].common else 1.0
+                       for c, t in zip(cell_code, cell_top)])
+    fam_w = np.array([priors[str(n)].weight for n in names])
+    cell_share = cell_w / np.bincount(cell_code, weights=cell_w, minlength=len(names))[cell_code]
+    _, sub = np.unique(np.stack([cell, group]), axis=1, return_inverse=True)  # (hypothesis, exam) pairs
+    sub = sub.ravel()
+    sub_cell = np.zeros(sub.max() + 1, dtype=np.int64)
+    sub_cell[sub] = cell
+    exams_per_cell = np.bincount(sub_cell)
+    log_prior = (np.log(fam_w[code] / fam_w.sum()) + np.log(cell_share[cell]) - np.log(exams_per_cell[cell])
+                 - np.log(np.bincount(sub)[sub]))
+    # A lesion predicting a wholly normal exam cannot be found at the bedside: on any exam it is the normal cord's
+    # twin, so it is left out (no prior mass) rather than listed as a lesion that explains nothing.
+    normal = np.flatnonzero(at.pattern_of == NORMAL)
+    if len(normal):
+        log_prior[(group == group[normal[0]]) & (code != code[normal[0]])] = UNDETECTABLE
+    fam = np.array([PATTERNS[str(n)].family for n in names])[code]
+    _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),
+                                 np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
+                       return_inverse=True)
+    extent = (at.bottom - at.top + 1).astype(np.float32)
+    prior = (log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)
+    prior.setflags(write=False)
+    d = _Derived(at.likely, tuple(str(n) for n in names), code, group, cell, hyp.ravel(), sides,
+                 np.isin(at.pattern_of, OUTSIDE_THE_CORD), at.pattern_of == NORMAL,
+                 observation.pathway_groups(at.items), prior)
+    _DERIVED[id(at)] = (at, d)
+    return d
+
+
+def exam_groups(at: atlas_mod.Atlas) -> np.ndarray:
+    """The atlas' same-exam group number per candidate (cached with the atlas)."""
+    return _derived(at).group
+
+
+def same_exam_groups(likely: np.ndarray) -> np.ndarray:
+    """(n,) group number per candidate: equal numbers for equal columns of `likely` (items, n), that is for
+    candidates predicting the same bedside exam. Numbers are dense from 0."""
+    rows = np.ascontiguousarray(likely.T)
+    keys = rows.view(np.dtype((np.void, rows.shape[1] * rows.itemsize))).ravel()
+    _, group = np.unique(keys, return_inverse=True)
+    return group.ravel()
+
+
+def leading_groups(score: np.ndarray, post: np.ndarray, group: np.ndarray, n: int
+                   ) -> list[tuple[np.ndarray, float]]:
+    """The n most probable same-exam groups: (members best first, group probability), most probable first.
+
+    A group's probability is the sum of its members' posteriors `post`; groups too improbable to register in
+    float64 come after, ordered by their best member's `score` (log posterior, unnormalised)."""
+    mass = np.bincount(group, weights=post)
+    live = np.flatnonzero(mass > 0)
+    if len(live) > n:
+        live = live[np.argpartition(-mass[live], n - 1)[:n]]
+    order = live[np.lexsort((live, -mass[live]))].tolist()
+    if len(order) < n:  # the rest by their best member, best first (a stable sort keeps ties in index order)
+        for i in np.argsort(-score, kind="stable"):
+            g = int(group[i])
+            if mass[g] == 0 and g not in order:
+                order.append(g)
+                if len(order) == n:
+                    break
+    out = []
+    for g in order:
+        members = np.flatnonzero(group == g)
+        members = members[np.lexsort((members, -score[members]))]
+        out.append((members, float(mass[g])))
+    return out
+
+
+def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int) -> list[tuple[np.ndarray, float]]:
+    """The n most probable hypotheses (pattern, side, rostral segment): (members best first, probability), most
+    probable first. A hypothesis whose best lesion predicts the same bedside exam as a more probable one's is folded
+    into it (its probability added; the lesion is listed there as the same exam): no bedside test separates them."""
+    out: list[tuple[np.ndarray, float]] = []
+    shown: dict[int, int] = {}
+    for members, mass in leading_groups(score, post, d.hyp, max(4 * n, n + 20)):
+        g = int(d.group[members[0]])
+        if g in shown:
+            k = shown[g]
+            out[k] = (out[k][0], out[k][1] + mass)
+        elif len(out) < n:
+            shown[g] = len(out)
+            out.append((members, mass))
+    order = sorted(range(len(out)), key=lambda k: -out[k][1])  # folding can reorder them (a stable sort)
+    return [out[k] for k in order]
+
+
+def _leading(score: np.ndarray, n: int) -> np.ndarray:
+    """Indices of the n highest scores, best first, ties in index order (as a stable full sort would give)."""
+    if n >= len(score):
+        return np.argsort(-score, kind="stable")
+    kth = -np.partition(-score, n - 1)[n - 1]
+    above = np.flatnonzero(score > kth)
+    part = np.concatenate([above, np.flatnonzero(score == kth)[: n - len(above)]])
+    return part[np.lexsort((part, -score[part]))]
+
+
+
+def same_exam(at, i: int, score: np.ndarray) -> np.ndarray:
+    """Candidates of other hypotheses predicting exactly candidate i's bedside exam, best first (none for the
+    normal cord: the lesions too small to show at the bedside are not worth naming)."""
+    d = _derived(at)
+    if at.pattern_of[i] == NORMAL:
+        return np.zeros(0, dtype=np.int64)
+    m = np.flatnonzero((d.group == d.group[i]) & (d.hyp != d.hyp[i]))
+    return m[np.lexsort((m, -score[m]))]
+
+
+def listed(at, members: np.ndarray) -> np.ndarray:
+    """Of `members` (best first), the ones a hypothesis names: the best of each pattern first (a conus lesion
+    beside a cauda equina one matters more than a third cauda variant), then the next best; SAME_EXAM_SHOWN at
+    most, one per hypothesis (pattern, side, rostral segment)."""
+    d = _derived(at)
+    _, one = np.unique(d.hyp[members], return_index=True)
+    members = members[np.sort(one)]
+    pats = at.pattern_of[members]
+    _, first = np.unique(pats, return_index=True)
+    firsts = set(first.tolist())
+    order = sorted(range(len(members)), key=lambda k: (k not in firsts, k))
+    return members[order[:SAME_EXAM_SHOWN]]
