@@ -13,7 +13,6 @@ Needs Voilà, the playwright package and /usr/bin/chromium. Talks only to its ow
 from __future__ import annotations
 
 import argparse
-import os
 import statistics
 import subprocess
 import sys
@@ -27,7 +26,15 @@ sys.path.insert(0, str(ROOT))
 from cordmap import demo, serve  # noqa: E402
 from cordmap.anatomy import anatomy  # noqa: E402
 from cordmap.rank import rank  # noqa: E402
-from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, cell_sel, click_and_wait, kernel_pids, wait_idle  # noqa: E402
+from tests.dashboard_page import (  # noqa: E402
+    CHROMIUM,
+    CHROMIUM_ARGS,
+    browser_missing,
+    cell_sel,
+    click_and_wait,
+    kernel_pids,
+    wait_idle,
+)
 
 VIEWPORT = {"width": 1366, "height": 768}
 DEMO = "thoracic-hemicord"
@@ -132,14 +139,10 @@ def main() -> int:
     ap.add_argument("--clicks", type=int, default=20)
     ap.add_argument("--sessions", type=int, default=10)
     a = ap.parse_args()
-    try:
-        from playwright.sync_api import sync_playwright
-    except ImportError:
-        print("needs the playwright package (pip install playwright)", file=sys.stderr)
+    if missing := browser_missing():
+        print(missing, file=sys.stderr)
         return 2
-    if not os.access(CHROMIUM, os.X_OK):
-        print(f"needs {CHROMIUM} (apt-get install -y chromium)", file=sys.stderr)
-        return 2
+    from playwright.sync_api import sync_playwright
     rounds = plan(a.clicks)
     cdir = tempfile.mkdtemp(prefix="cordmap-bench-voila-")
     log = open(Path(cdir) / "voila.log", "wb")  # noqa: SIM115

@@ -12,7 +12,6 @@ import argparse
 import collections
 import contextlib
 import io
-import json
 import random
 import sys
 import tempfile
@@ -23,7 +22,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests"))
 
-from fuzz_docs import documents, tidy_case, valid_documents  # noqa: E402
+from fuzz_docs import documents, file_bytes, tidy_case, valid_documents  # noqa: E402
 
 from cordmap.cli import main as cli_main  # noqa: E402
 from cordmap.errors import CordmapError  # noqa: E402
@@ -89,12 +88,7 @@ def main() -> int:
     codes: collections.Counter = collections.Counter()
     docs = documents(a.cli_runs, seed=99)
     for i, (_form, value) in enumerate(docs):
-        if isinstance(value, dict):
-            try:
-                value = json.dumps(value)
-            except (ValueError, RecursionError):
-                value = "[" * 10_000
-        data = value if isinstance(value, bytes) else value.encode("utf-8", errors="surrogatepass")
+        data = file_bytes(value)
         kind = ("rank", "classify", "batch")[i % 3]
         src = tmp / (f"cli-{i}.jsonl" if kind == "batch" else f"cli-{i}.json")
         src.write_bytes(data.replace(b"\n", b" ") + b"\n" + data.replace(b"\n", b" ") if kind == "batch" else data)

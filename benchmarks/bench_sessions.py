@@ -14,7 +14,6 @@ Needs Voilà, the playwright package and /usr/bin/chromium. Talks only to its ow
 from __future__ import annotations
 
 import argparse
-import os
 import subprocess
 import sys
 import tempfile
@@ -25,7 +24,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from cordmap import serve  # noqa: E402
-from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, kernel_pids, rss_mb  # noqa: E402
+from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, browser_missing, kernel_pids, rss_mb  # noqa: E402
 
 READY_JS = ("() => { const t = document.querySelector('.cm-lead-text'); const i = document.querySelector("
             "'img.cm-section'); return t && t.offsetParent !== null && i && i.complete && i.naturalWidth > 0; }")
@@ -55,14 +54,10 @@ def main() -> int:
     ap.add_argument("--loads", type=int, default=20)
     ap.add_argument("--idle", type=int, default=20, help="idle timeout in seconds (cordmap serve: 600)")
     a = ap.parse_args()
-    try:
-        from playwright.sync_api import sync_playwright
-    except ImportError:
-        print("needs the playwright package (pip install playwright)", file=sys.stderr)
+    if missing := browser_missing():
+        print(missing, file=sys.stderr)
         return 2
-    if not os.access(CHROMIUM, os.X_OK):
-        print(f"needs {CHROMIUM} (apt-get install -y chromium)", file=sys.stderr)
-        return 2
+    from playwright.sync_api import sync_playwright
     cdir = tempfile.mkdtemp(prefix="cordmap-bench-sessions-")
     log = open(Path(cdir) / "voila.log", "wb")  # noqa: SIM115
     port, token = serve.free_port(), serve.new_token()

@@ -9,6 +9,18 @@ CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic"
                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 
 
+def browser_missing() -> str:
+    """Why the headless browser cannot run here ('' when it can): the playwright package or Chromium missing."""
+    import importlib.util
+    import os
+
+    if importlib.util.find_spec("playwright") is None:
+        return "needs the playwright package (pip install playwright)"
+    if not os.access(CHROMIUM, os.X_OK):
+        return f"needs {CHROMIUM} (apt-get install -y chromium)"
+    return ""
+
+
 def cell_sel(mod: str, side: str, derm: str) -> str:
     """CSS selector of one dermatome cell."""
     return f".cm-cell-{mod}-{side}-{derm}"

@@ -136,3 +136,13 @@ def tidy_case(rng: random.Random, base: list[dict]) -> list[dict]:
         elif rows:
             rows.pop(rng.randrange(len(rows)))
     return rows
+
+
+def file_bytes(value) -> bytes:
+    """A fuzzed document (dict, text or bytes) as the bytes of a file (a dict too deep for JSON: deep brackets)."""
+    if isinstance(value, dict):
+        try:
+            value = json.dumps(value)
+        except (ValueError, RecursionError):
+            value = "[" * 10_000
+    return value if isinstance(value, bytes) else value.encode("utf-8", errors="surrogatepass")
