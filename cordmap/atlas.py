@@ -22,7 +22,7 @@ import numpy as np
 from . import cachedir, observation
 from .anatomy import anatomy
 from .findings import all_items, item_values
-from .forward import along_extent, fibre_losses_per_segment, readout
+from .forward import along_extent, fibre_losses_per_segment, readout, with_neuropathy
 from .lesions import PATTERNS, Lesion, draw_mask
 from .model import DEFAULT_RESOLUTION, sections
 
@@ -185,9 +185,10 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
     offsets = np.concatenate([[0], np.cumsum([len(item_values(k)) for k in items])]).astype(np.int32)
     logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
     likely = np.empty((len(items), len(var)), dtype=np.int8)
+    neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in vs])
     for start in range(0, len(var), chunk):
         sl = slice(start, start + chunk)
-        L = along_extent(per_seg, var[sl], top[sl], bottom[sl])
+        L = with_neuropathy(along_extent(per_seg, var[sl], top[sl], bottom[sl]), neuropathy[var[sl]])
         r = readout(L, phase == "acute")
         logp[:, sl] = observation.log_probabilities(r, items, offsets).T
         likely[:, sl] = observation.crisp_indices(r, items).T

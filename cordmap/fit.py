@@ -5,7 +5,7 @@ import numpy as np
 
 from . import atlas as atlas_mod
 from .hypotheses import _abnormal, _derived
-from .lesions import NORMAL
+from .lesions import NORMAL, PATTERNS
 
 # Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
 # findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
@@ -71,7 +71,20 @@ def separate(at, i: int) -> np.ndarray:
     apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
     sides = d.side
     opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
-    return (apart | opposite) & ~d.normal
+    return (apart | opposite) & ~d.normal & _focal(at)
+
+
+def _focal(at) -> np.ndarray:
+    """(candidates,) lesions that can be a separate second lesion: not a diffuse degeneration (Pattern.diffuse) or
+    a polyneuropathy, which already span the cord or the limbs (the second lesion of a pair is a focal one)."""
+    hit = _FOCAL.get(id(at))
+    if hit is None or hit[0] is not at:
+        systemic = [p.id for p in PATTERNS.values() if p.diffuse] + ["polyneuropathy"]
+        hit = _FOCAL[id(at)] = (at, ~np.isin(at.pattern_of, systemic))
+    return hit[1]
+
+
+_FOCAL: dict[int, tuple] = {}
 
 
 def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,

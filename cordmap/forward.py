@@ -169,6 +169,53 @@ def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, 
     return extent_losses(extent_sums(per_segment), mask_id, top, bottom)
 
 
+# ------------------------------------------------------------------ outside the cord: a length-dependent neuropathy
+
+# A length-dependent (dying-back) polyneuropathy loses the longest axons first: the feet (S1, L5), then the legs to
+# the knee, then the fingers, with the ankle jerk lost early and the saddle spared (from memory, standard neurology
+# teaching; e.g. Adams and Victor's Principles of Neurology, 11th ed., 2019, ch. 43). With severity s in 0..1 the
+# dying-back front lies at NEUROPATHY_FRONT[0] - NEUROPATHY_FRONT[1] x s cm of axon (100 cm: none; 40 cm at s = 1:
+# the legs to above the knee and the hands); a root's fibres whose longest axon reaches past the front by x cm are
+# lost in the share x / NEUROPATHY_RAMP (a graded edge, not a cut). Motor axons go later and less
+# (NEUROPATHY_MOTOR_SHARE of that share): weakness is mild and distal. The lengths are `data/axons.csv`.
+# Judgement, calibrated so that s = 0.35 loses the ankle jerks and impairs the toes, s = 0.65 reaches the ankles
+# and begins at the fingers, s = 1 reaches the knees.
+NEUROPATHY_FRONT = (100.0, 60.0)
+NEUROPATHY_RAMP = 40.0
+NEUROPATHY_MOTOR_SHARE = 0.3
+
+
+@cache
+def neuropathy_losses(severity: float) -> np.ndarray:
+    """(features,) fibre losses of a length-dependent polyneuropathy of `severity` (0: none), on both sides."""
+    a = anatomy()
+    fi = feature_index()
+    out = np.zeros(len(fi), dtype=np.float32)
+    if severity <= 0:
+        return out
+    front = NEUROPATHY_FRONT[0] - NEUROPATHY_FRONT[1] * severity
+    for kind, stage, share in (("sensory", "dorsal_root", 1.0), ("motor", "ventral_root", NEUROPATHY_MOTOR_SHARE)):
+        for j, length in enumerate(a.axon_cm[kind]):
+            lost = share * float(np.clip((length - front) / NEUROPATHY_RAMP, 0.0, 1.0))
+            for sd in (0, 1):
+                out[fi[(stage, sd, j)]] = lost
+    out.flags.writeable = False
+    return out
+
+
+def with_neuropathy(L: np.ndarray, severity: np.ndarray) -> np.ndarray:
+    """Fibre losses L (cand x features) combined with each candidate's neuropathy of `severity` (cand,):
+    a fibre is lost if the cord lesion or the neuropathy takes it (1 - (1 - a)(1 - b))."""
+    severity = np.asarray(severity, dtype=np.float64)
+    if not severity.any():
+        return L
+    out = L.copy()
+    for s in np.unique(severity[severity > 0]):
+        rows = severity == s
+        out[rows] = _comb(L[rows], np.broadcast_to(neuropathy_losses(float(s)), L[rows].shape))
+    return out
+
+
 # ------------------------------------------------------------------ readout
 
 SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: absent (model convention)

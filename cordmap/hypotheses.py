@@ -21,7 +21,7 @@ UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly norm
 
 # Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
 # dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
-OUTSIDE_THE_CORD = ("root", "cauda_equina", NORMAL)
+OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", NORMAL)
 
 
 
@@ -92,8 +92,13 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     if len(normal):
         log_prior[(group == group[normal[0]]) & (code != code[normal[0]])] = UNDETECTABLE
     fam = np.array([PATTERNS[str(n)].family for n in names])[code]
+    # A diffuse degeneration (Pattern.diffuse) has no one level: its hypothesis is the family in a region of the
+    # cord (where its rostral edge lies: cervical, thoracic, lumbosacral), not one per rostral segment.
+    region = np.array([{"cervical": 0, "thoracic": 1}.get(r, 2) for r in anatomy().segment_table["region"]])
+    diffuse = np.array([PATTERNS[str(n)].diffuse for n in names])[code]
+    where = np.where(diffuse, -1 - region[at.top], at.top)
     _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),
-                                 np.unique(sides, return_inverse=True)[1].ravel(), at.top]), axis=1,
+                                 np.unique(sides, return_inverse=True)[1].ravel(), where]), axis=1,
                        return_inverse=True)
     extent = (at.bottom - at.top + 1).astype(np.float32)
     prior = (log_prior - 0.04 * extent - 0.5 * at.area).astype(np.float32)

@@ -46,6 +46,9 @@ class Pattern:
     # The clinical family the ranker groups it in: a compression from the front and one from behind give nearly the
     # same bedside exam at the same level (imaging tells the direction), so they make one hypothesis.
     family: str = ""
+    # A diffuse degeneration (motor neuron disease, combined degeneration): the bedside cannot place its rostral
+    # edge to a segment, so the ranker makes one hypothesis of it per region of the cord, not one per segment.
+    diffuse: bool = False
 
     def __post_init__(self):
         if not self.family:
@@ -244,10 +247,21 @@ def _anterior_horn(sec, xs, side, p):
     return (sec.structure == S["ventral_horn"]) & _half(xs, side)
 
 
+# Motor neuron disease spares the sphincters: Onuf's nucleus (the anal and urethral sphincters' motor neurons in
+# the ventral horn of S2-S4) survives, and continence is kept to the end (from memory; Mannen et al., J Neurol
+# Neurosurg Psychiatry 1977, on the preserved sacral motor neurons in ALS). The pattern keeps the sacral ventral
+# horns (S2-S5) and the corticospinal fibres bound for them.
+_ONUF = ("S2", "S5")
+
+
 def _motor_neuron(sec, xs, side, p):
     st = sec.structure
-    motor = (st == S["ventral_horn"]) | (st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])
-    return _thin(sec, motor, p["severity"])
+    a = anatomy()
+    lo, hi = a.index(_ONUF[0]), a.index(_ONUF[1])
+    horn = (st == S["ventral_horn"]) & (not lo <= sec.index <= hi)
+    cst = ((st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])) & ~((sec.body >= lo)
+                                                                                          & (sec.body <= hi))
+    return _thin(sec, horn, p["severity"]) | _thin(sec, cst, p["severity"] * p.get("upper", 1.0))
 
 
 def _conus(sec, xs, side, p):
@@ -310,6 +324,12 @@ _INCOMPLETE = Param("severity", 1.0, (0.25, 0.5, 1.0), 0.05, 1.0,
                     "share of the territory's fibres destroyed, evenly (1 = all: a complete lesion of that shape)")
 _DEGENERATION = Param("severity", 1.0, (0.35, 0.65, 1.0), 0.05, 1.0,
                       "share of the territory's fibres lost, evenly over every body segment (diffuse degeneration)")
+# A length-dependent polyneuropathy beside a cord lesion (`forward.neuropathy_losses`: distal loss in a stocking,
+# ankle jerks lost first): combined degeneration from B12, copper or nitrous oxide is a myelopathy with a
+# neuropathy, and the absent ankle jerks with brisk knee jerks are its usual bedside sign (from memory; Adams and
+# Victor's Principles of Neurology, 11th ed., 2019, on subacute combined degeneration).
+_NEUROPATHY = Param("neuropathy", 0.0, (0.0, 0.35, 0.65), 0.0, 1.0,
+                    "severity of a length-dependent polyneuropathy beside it (0 none; 1 reaches the knees)")
 _DEPTH = Param("depth", 0.25, (0.1, 0.17, 0.25, 0.33, 0.42, 0.5), 0.02, 0.5,
                "how far the compression reaches, as a fraction of the cord's width (0.5 = half the cord)")
 # A mass in front of or behind the cord flattens it: the lateral corticospinal tracts (in the back half of the
@@ -352,7 +372,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
             ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),)),
     Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
-            ("both",), _posterolateral, (_DEGENERATION,)),
+            ("both",), _posterolateral, (_DEGENERATION, _NEUROPATHY), diffuse=True),
     Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",
             ("left", "right"), _lateral_compression, (_DEPTH, _INCOMPLETE),
             max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS),
@@ -365,7 +385,13 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("anterior_horn", "the ventral horn motor neurons alone (pure lower motor neuron)",
             ("left", "right", "both"), _anterior_horn),
     Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
-            ("both",), _motor_neuron, (_DEGENERATION,)),
+            ("both",), _motor_neuron,
+            (_DEGENERATION,
+             # Upper and lower motor neuron loss need not keep pace: brisk jerks and a Hoffmann sign over wasted,
+             # weak arms with legs of normal power are common (from memory, standard neurology teaching on ALS).
+             Param("upper", 1.0, (0.6, 1.0), 0.1, 1.0,
+                   "the corticospinal tracts' share of `severity` (0.6: upper motor neuron signs with little "
+                   "corticospinal weakness)")), diffuse=True),
     Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),
             tops=("L5", "S4"),
             bottom_fixed="Co1"),
@@ -379,6 +405,13 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("root", "one dorsal and ventral root (radiculopathy)", ("left", "right"), _root,
             (Param("severity", 1.0, (0.2, 0.4, 0.7, 1.0), 0.1, 1.0, "share of the root's fibres lost"),),
             tops=("C2", "S5"), single=True),
+    # Outside the cord and roots: a length-dependent polyneuropathy alone (a common mimic of a cord or root lesion).
+    # It has no mask and no level; `top` is a placeholder at S1 (the feet go first).
+    Pattern("polyneuropathy", "a length-dependent peripheral polyneuropathy: distal loss, ankle jerks first",
+            ("both",), _normal,
+            (Param("neuropathy", 0.65, (0.35, 0.65, 1.0), 0.05, 1.0,
+                   "severity (0.35 loses the ankle jerks and numbs the toes; 1 reaches the knees and the hands)"),),
+            tops=("S1", "S1"), single=True),
     # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
     Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,
             tops=("C1", "C1"), single=True),

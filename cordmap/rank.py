@@ -35,7 +35,7 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     same_exam,
     same_exam_groups,
 )
-from .lesions import NORMAL, Lesion
+from .lesions import NORMAL, PATTERNS, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
@@ -268,8 +268,10 @@ def vertebral_levels(lesion: Lesion) -> tuple[str, ...]:
         return ("L5-S1", "sacrum")
     if lesion.pattern == "cauda_equina":
         return ("L1", "L2", "L3", "L4", "L5", "S1")
-    if lesion.pattern == NORMAL:
+    if lesion.pattern in (NORMAL, "polyneuropathy"):  # nothing in the spine to image
         return ()
+    if lesion.pattern in PATTERNS and PATTERNS[lesion.pattern].diffuse:
+        return _diffuse_window(lesion)
     # A cord lesion's rostral edge is uncertain by a segment or two (a sensory level lies at or below its lesion),
     # and an extrinsic one can sit several segments above the level it produces: the window starts WINDOW_ABOVE
     # segments above the rostral segment and ends at the caudal one, or WINDOW_BELOW segments below the rostral
@@ -285,6 +287,20 @@ def vertebral_levels(lesion: Lesion) -> tuple[str, ...]:
     if lesion.pattern == "conus" and "L2" not in out:
         out.append("L2")
     return tuple(out)
+
+
+# A diffuse degeneration has no one level to image: the MRI looks for what it shows (the dorsal columns' signal in
+# combined degeneration, usually cervical and upper thoracic) and for the compression or inflammation that mimics
+# it, over the region of the cord where the signs begin and the region below (cervical and thoracic spine for a
+# cervical picture; thoracic spine and conus for a thoracic one). Common clinical practice, no source.
+_REGIONS = (("C1", "T12"), ("T1", "Co1"), ("L1", "Co1"))
+
+
+def _diffuse_window(lesion: Lesion) -> tuple[str, ...]:
+    a = anatomy()
+    region = {"cervical": 0, "thoracic": 1}.get(a.segment_table["region"].iloc[lesion.top_index], 2)
+    first, last = (a.index(s) for s in _REGIONS[region])
+    return tuple(dict.fromkeys(a.vertebra(a.segments[s]) for s in range(first, last + 1)))
 
 
 def _ranges(derms: list[str]) -> str:

@@ -15,7 +15,15 @@ import numpy as np
 
 from .anatomy import MODALITIES, REFLEXES, SIDES, anatomy
 from .findings import SIGNS, Findings, reflex_values
-from .forward import SENSORY_THRESHOLDS, Readout, extent_losses, extent_sums, fibre_losses_per_segment, readout
+from .forward import (
+    SENSORY_THRESHOLDS,
+    Readout,
+    extent_losses,
+    extent_sums,
+    fibre_losses_per_segment,
+    readout,
+    with_neuropathy,
+)
 from .lesions import CUSTOM, Lesion, lesion_masks
 from .model import DEFAULT_RESOLUTION, sections
 
@@ -99,6 +107,7 @@ def predict(lesion: Lesion, resolution: int = DEFAULT_RESOLUTION) -> Readout:
     """The raw readout (loss fractions, expected grades) of one lesion."""
     cum = variant_sums(lesion, resolution)
     L = extent_losses(cum, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
+    L = with_neuropathy(L, np.array([lesion.all_params().get("neuropathy", 0.0)]))
     return readout(L, lesion.phase == "acute")
 
 

@@ -18,6 +18,7 @@ from cordmap.forward import (
     fibre_losses_per_segment,
     readout,
     readout_by_item,
+    with_neuropathy,
 )
 from cordmap.lesions import PATTERNS, Lesion, lesion_masks
 from cordmap.model import sections
@@ -30,6 +31,7 @@ def reference_predict(lesion: Lesion):
     masks = np.asarray(lesion_masks(lesion, sections()), dtype=np.float32)  # weights: the counting shortcut unused
     per_seg = fibre_losses_per_segment(masks[None])
     L = along_extent(per_seg, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
+    L = with_neuropathy(L, np.array([lesion.all_params().get("neuropathy", 0.0)]))
     return readout_by_item(L, lesion.phase == "acute")
 
 
