@@ -107,6 +107,15 @@ def anatomy() -> Anatomy:
     return Anatomy(segs, seg, tuple(derm["dermatome"]), derm, dseg, mus, key, weights, ref, rseg, col, lam, axons)
 
 
+CORD_REGIONS = ("cervical", "thoracic", "lumbosacral")
+
+
+def cord_region(index: int) -> int:
+    """The region of the cord of a segment index: 0 cervical, 1 thoracic, 2 lumbosacral (lumbar, sacral, Co1)."""
+    r = anatomy().segment_table["region"].iloc[index]
+    return {"cervical": 0, "thoracic": 1}.get(r, 2)
+
+
 REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "hoffmann", "abdominal_upper",
             "abdominal_lower", "cremasteric", "knee", "ankle", "plantar")
 TENDON_REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "knee", "ankle")

@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .anatomy import anatomy
+from .anatomy import anatomy, cord_region
 from .errors import CordmapError, bad_value
 from .findings import Findings, parse
 from .lesions import PATTERNS, Lesion
@@ -40,7 +40,8 @@ class Expected:
 
     def matches(self, lesion: Lesion) -> bool:
         """Family, side and rostral segment all as the case expects (a symmetric answer accepts either side of a
-        pattern that has no 'both', such as the worse side of a cauda equina lesion)."""
+        pattern that has no 'both', such as the worse side of a cauda equina lesion). A diffuse degeneration's
+        hypothesis is a region of the cord, so it matches when its region holds a segment of the expected range."""
         if lesion.pattern not in self.families:
             return False
         if self.side != "both" and lesion.side != self.side:
@@ -48,7 +49,10 @@ class Expected:
         if self.side == "both" and lesion.side != "both" and "both" in PATTERNS[lesion.pattern].sides:
             return False
         a = anatomy()
-        return a.index(self.top[0]) <= lesion.top_index <= a.index(self.top[1])
+        lo, hi = a.index(self.top[0]), a.index(self.top[1])
+        if PATTERNS[lesion.pattern].diffuse:  # placed by region, not by segment (Pattern.diffuse)
+            return cord_region(lesion.top_index) in {cord_region(i) for i in range(lo, hi + 1)}
+        return lo <= lesion.top_index <= hi
 
 
 @dataclass(frozen=True)

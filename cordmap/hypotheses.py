@@ -13,7 +13,7 @@ import numpy as np
 
 from . import atlas as atlas_mod
 from . import observation
-from .anatomy import anatomy, family_priors
+from .anatomy import anatomy, cord_region, family_priors
 from .lesions import NORMAL, PATTERNS
 
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
@@ -94,7 +94,7 @@ def _derived(at: atlas_mod.Atlas) -> _Derived:
     fam = np.array([PATTERNS[str(n)].family for n in names])[code]
     # A diffuse degeneration (Pattern.diffuse) has no one level: its hypothesis is the family in a region of the
     # cord (where its rostral edge lies: cervical, thoracic, lumbosacral), not one per rostral segment.
-    region = np.array([{"cervical": 0, "thoracic": 1}.get(r, 2) for r in anatomy().segment_table["region"]])
+    region = np.array([cord_region(i) for i in range(len(anatomy().segments))])
     diffuse = np.array([PATTERNS[str(n)].diffuse for n in names])[code]
     where = np.where(diffuse, -1 - region[at.top], at.top)
     _, hyp = np.unique(np.stack([np.unique(fam, return_inverse=True)[1].ravel(),

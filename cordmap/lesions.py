@@ -173,7 +173,8 @@ def _posterolateral(sec, xs, side, p):
     # are spared, and the lateral spinothalamic tract lies ventral to the sector, so pinprick is kept.
     # The degeneration begins in the dorsal columns and reaches the lateral columns later and less (from memory,
     # standard neurology teaching on combined degeneration): the dorsal columns lose twice the share `severity`
-    # (all of it from severity 0.5), the dorsolateral funiculi the share `severity`; at 1 both are wholly lost.
+    # (all of it from severity 0.5), the dorsolateral funiculi LATERAL_SHARE of it: brisk knee jerks and extensor
+    # plantars with little weakness are the usual picture, severe spastic weakness a late one (from memory).
     # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms; from
     # memory, standard neurology teaching on B12 deficiency): a laminated fibre's share grows with the length of
     # its body segment's path, from LENGTH_SHARE[0] x severity at C1 to LENGTH_SHARE[1] x severity at S5.
@@ -181,10 +182,11 @@ def _posterolateral(sec, xs, side, p):
     dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
     lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
-    return _thin_by_length(sec, dc, 2 * p["severity"]) | _thin_by_length(sec, lateral, p["severity"])
+    return _thin_by_length(sec, dc, 2 * p["severity"]) | _thin_by_length(sec, lateral, LATERAL_SHARE * p["severity"])
 
 
 LENGTH_SHARE = (0.55, 1.45)
+LATERAL_SHARE = 0.6
 
 
 def _thin_by_length(sec, mask, severity):
@@ -389,8 +391,8 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             (_DEGENERATION,
              # Upper and lower motor neuron loss need not keep pace: brisk jerks and a Hoffmann sign over wasted,
              # weak arms with legs of normal power are common (from memory, standard neurology teaching on ALS).
-             Param("upper", 1.0, (0.6, 1.0), 0.1, 1.0,
-                   "the corticospinal tracts' share of `severity` (0.6: upper motor neuron signs with little "
+             Param("upper", 1.0, (0.7, 1.0), 0.1, 1.0,
+                   "the corticospinal tracts' share of `severity` (0.7: upper motor neuron signs with little "
                    "corticospinal weakness)")), diffuse=True),
     Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),
             tops=("L5", "S4"),

@@ -17,7 +17,7 @@ import pandas as pd
 from . import atlas as atlas_mod
 from . import cautions as C
 from . import observation
-from .anatomy import MODALITIES, SIDES, anatomy
+from .anatomy import MODALITIES, SIDES, anatomy, cord_region
 from .findings import Findings, item_label, item_values, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
 from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read them here)
@@ -298,8 +298,7 @@ _REGIONS = (("C1", "T12"), ("T1", "Co1"), ("L1", "Co1"))
 
 def _diffuse_window(lesion: Lesion) -> tuple[str, ...]:
     a = anatomy()
-    region = {"cervical": 0, "thoracic": 1}.get(a.segment_table["region"].iloc[lesion.top_index], 2)
-    first, last = (a.index(s) for s in _REGIONS[region])
+    first, last = (a.index(s) for s in _REGIONS[cord_region(lesion.top_index)])
     return tuple(dict.fromkeys(a.vertebra(a.segments[s]) for s in range(first, last + 1)))
 
 
