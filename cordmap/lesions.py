@@ -506,13 +506,10 @@ class Lesion:
         return anatomy().index(self.bottom)
 
     def describe(self) -> str:
-        if self.pattern == NORMAL:
-            return "no lesion (normal cord)"
-        p = ", ".join(f"{k} {v:g}" for k, v in self.all_params().items()
-                      if not (k == "severity" and v == 1.0 and _INCOMPLETE in PATTERNS[self.pattern].params))
-        where = self.top if self.top == self.bottom else f"{self.top}-{self.bottom}"
-        side = "" if self.side == "both" else f"{self.side} "
-        return f"{side}{self.pattern.replace('_', ' ')} {where}" + (f" ({p})" if p else "")
+        """The lesion in plain words (`cordmap.words.describe`)."""
+        from .words import describe
+
+        return describe(self)
 
 
 def draw_mask(pattern: str, side: str, params: dict, sec: Section) -> np.ndarray:

@@ -1,0 +1,110 @@
+"""Lesions in plain words: what a clinician reads in every output (CLI, JSON text fields, dashboard, report).
+
+`describe(lesion)` says where the lesion is and what it takes, in the words of the trade, never a pattern's internal
+parameter names or numbers ("compression from behind at C5, moderately deep, incomplete" rather than
+"posterior compression C5 (depth 0.42, severity 0.5)"). A symmetric lesion (side "both") is given no side. A
+parameter the words below do not know is left out rather than printed by name: `tests/test_words.py` greps every
+text output for the parameter names.
+
+The grades are bands over each parameter's range (`lesions.PATTERNS`), judgement chosen so that neighbouring grid
+values read differently where the bedside picture differs.
+"""
+from __future__ import annotations
+
+from .lesions import CUSTOM, NORMAL, PATTERNS, Lesion
+
+
+def _band(value: float, bands: tuple[tuple[float, str], ...]) -> str:
+    """The word of the first band whose upper bound is at least `value` (the last band otherwise)."""
+    for upper, word in bands:
+        if value <= upper + 1e-9:
+            return word
+    return bands[-1][1]
+
+
+# share of the territory destroyed (focal patterns): 1 is complete for that shape, and says nothing
+_INCOMPLETE = ((0.34, "mild, incomplete"), (0.6, "incomplete"), (0.99, "severe but incomplete"), (1.0, ""))
+# share lost in a diffuse degeneration
+_DEGENERATION = ((0.4, "mild"), (0.7, "moderate"), (1.0, "advanced"))
+_ROOT = ((0.25, "mild, partial"), (0.5, "partial"), (0.8, "severe, partial"), (1.0, ""))
+# how far an extrinsic compression reaches: a side one up to half the cord, a front or back one up to 0.7 of its depth
+_SIDE_DEPTH = ((0.12, "shallow, the roots only"), (0.2, "shallow"), (0.36, "moderately deep"),
+               (0.46, "deep"), (0.5, "deep, reaching the midline"))
+_FRONT_BACK_DEPTH = ((0.2, "shallow"), (0.45, "moderately deep"), (0.55, "deep, to the middle of the cord"),
+                     (0.75, "very deep, most of the cord's depth"))
+_CENTRAL_SIZE = ((0.22, "small, around the central canal"), (0.35, "medium, the central gray matter"),
+                 (0.55, "large, gray matter and inner white matter"), (0.9, "very large, most of the cross-section"))
+_NEUROPATHY = ((0.0, ""), (0.4, "with a mild neuropathy of the feet"), (0.7, "with a neuropathy to the mid-shins"),
+               (1.0, "with a neuropathy to the knees and hands"))
+
+
+def segment_range(top: str, bottom: str) -> str:
+    """'at C5' for one segment, 'C5-C7' for several."""
+    return f"at {top}" if top == bottom else f"{top}-{bottom}"
+
+
+def _roots_below(top: str) -> str:
+    return "coccygeal roots" if top == "Co1" else f"{top}-Co roots"
+
+
+def _join(head: str, *parts: str) -> str:
+    return ", ".join([head, *[p for p in parts if p]])
+
+
+def describe(lesion: Lesion) -> str:
+    """A lesion in plain words, e.g. 'left half of the cord (Brown-Séquard) at T6',
+    'cauda equina: S3-Co roots, both sides', 'dorsal columns only at T1'."""
+    p = lesion.pattern
+    if p == NORMAL:
+        return "no lesion (normal cord)"
+    where = segment_range(lesion.top, lesion.bottom)
+    if p == CUSTOM:
+        return f"own mask {where}"
+    q = lesion.all_params()
+    side = lesion.side
+    sev = _band(q.get("severity", 1.0), _INCOMPLETE)
+    if p == "complete":
+        return _join(f"whole cross-section of the cord {where}", sev if sev else "complete")
+    if p == "hemisection":
+        return _join(f"{side} half of the cord (Brown-Séquard) {where}", sev)
+    if p == "central":
+        return _join(f"central cord lesion {where}", _band(q["size"], _CENTRAL_SIZE), sev)
+    if p == "anterior":
+        territory = "ventral two-thirds" if q["reach"] >= 0.3 else "ventral half"
+        return _join(f"anterior spinal artery territory {where} ({territory}, dorsal columns spared)", sev)
+    if p == "posterior":
+        what = "dorsal columns and dorsal horns" if q["horns"] >= 0.5 else "dorsal columns only"
+        return f"{what} {where}"
+    if p == "posterolateral":
+        return _join(f"dorsal and lateral columns (combined degeneration) {where}",
+                     _band(q["severity"], _DEGENERATION), _band(q.get("neuropathy", 0.0), _NEUROPATHY))
+    if p == "lateral_compression":
+        return _join(f"compression from the {side} {where}", _band(q["depth"], _SIDE_DEPTH), sev)
+    if p in ("anterior_compression", "posterior_compression"):
+        direction = "the front" if p == "anterior_compression" else "behind"
+        return _join(f"compression from {direction} {where}", _band(q["depth"], _FRONT_BACK_DEPTH), sev)
+    if p == "anterior_horn":
+        who = "both sides" if side == "both" else f"{side} side"
+        return f"anterior horn cells, {who}, {where} (lower motor neuron only)"
+    if p == "motor_neuron":
+        mix = "mostly lower motor neuron" if q.get("upper", 1.0) < 0.85 else "upper and lower"
+        return _join(f"motor neurons, {mix}, {where} (no sensory loss)", _band(q["severity"], _DEGENERATION))
+    if p == "conus":
+        return _join(f"conus medullaris from {lesion.top} down", sev)
+    if p == "cauda_equina":
+        other = "right" if side == "left" else "left"
+        contra = q.get("contra", 0.0)
+        if contra >= 0.99:
+            sides = "both sides"
+        elif contra <= 0.01:
+            sides = f"{side} side" if q.get("medial", 0.0) > 0 else f"{side} side only"
+        else:
+            sides = f"{side} side, {other} side in part"
+        low = f"and the lowest {other} roots (central disc)" if q.get("medial", 0.0) > 0 and contra < 0.99 else ""
+        return _join(f"cauda equina: {_roots_below(lesion.top)}, {sides}", low, sev)
+    if p == "root":
+        return _join(f"{side} {lesion.top} root", _band(q.get("severity", 1.0), _ROOT))
+    if p == "polyneuropathy":
+        return f"length-dependent polyneuropathy ({_band(q.get('neuropathy', 0.65), _DEGENERATION)})"
+    side_word = "" if side == "both" else f"{side} "
+    return f"{side_word}{PATTERNS[p].summary.split(':')[0].split(' (')[0]} {where}"
