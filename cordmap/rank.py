@@ -39,6 +39,7 @@ from .lesions import NORMAL, PATTERNS, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
+COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compression", "cauda_equina", "conus")
 # Imaging window of a cord lesion, in cord segments around its rostral segment (see vertebral_levels): judgement
 # from common clinical practice (image above the sensory level; an extrinsic mass may lie several segments higher).
 WINDOW_ABOVE, WINDOW_ABOVE_COMPRESSION, WINDOW_BELOW_MIN, WINDOW_BELOW = 2, 3, 2, 4
@@ -246,7 +247,7 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
             cls = _classify(f)
         except ImportError:
             cls = None
-    return Ranking(hyps, fit, advice, tests, ranking_cautions(at, post, f, hyps), pm, lm, len(items), cls)
+    return Ranking(hyps, fit, advice, tests, ranking_cautions(at, post, f, hyps, cls), pm, lm, len(items), cls)
 
 
 # ------------------------------------------------------------------ hypotheses in words
@@ -438,68 +439,9 @@ def _why(key, at, pool, w) -> str:
 
 # ------------------------------------------------------------------ cautions
 
-COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compression", "cauda_equina", "conus")
-# A candidate counts toward a caution only if it predicts nearly as large a share of the entered abnormal findings
-# as the best-explaining candidate does (at least this fraction of that share): thousands of candidates that
-# predict a near-normal exam (a thoracic anterior-horn lesion, say) must not raise a breathing caution for a
-# lumbar radiculopathy. Judgement, checked in tests/test_rank.py.
-CAUTION_EXPLAINS = 0.9
-CAUTION_MASS = 0.05  # share of the explaining posterior that raises a level-dependent caution
-
-
-def _myelopathy_signs(f: Findings) -> bool:
-    """Entered signs of a cord lesion that may be acute compression: extensor plantar, retention, a sensory level
-    (an abnormal run on one side reaching S4-5 from at least three dermatomes higher, normal above it)."""
-    items = f.items
-    if any(k[0] == "reflex" and k[2] == "plantar" and v == "extensor" for k, v in items.items()):
-        return True
-    if items.get(("sign", "bladder", "")) == "retention":
-        return True
-    derms = anatomy().dermatomes
-    for mod in MODALITIES:
-        for side in SIDES:
-            vals = [items.get(("sensory", mod, side, d)) for d in derms]
-            run = 0
-            for v in reversed(vals):
-                if v is None or v == 2:
-                    break
-                run += 1
-            if run >= 3 and any(v == 2 for v in vals[: len(vals) - run]):
-                return True
-    return False
-
-
-def ranking_cautions(at, post, f: Findings, hyps) -> tuple[str, ...]:
-    """The cautions that apply: emergency, breathing, dysreflexia (weighted by the candidates that explain the
-    entered abnormal findings), and always the decision-support line. Breathing: bilateral cord lesions predicted
-    to weaken the diaphragm (C3-C5; one paralysed hemidiaphragm is usually tolerated at rest, from memory), a weak
-    diaphragm entered, or an acute cervical cord lesion (common clinical practice: any acute complete cervical
-    injury needs vital capacity watched; check values section 8)."""
-    abn = [at.item_index[k] for k, v in f.items.items() if k in at.item_index and _abnormal(k, v)]
-    if abn:
-        share = at.abnormal[np.array(abn)].mean(axis=0)
-        w = np.where(share >= CAUTION_EXPLAINS * share.max(), post, 0.0)
-        w = w / w.sum() if w.sum() > 0 else w
-    else:
-        w = np.zeros_like(post)
-    out = []
-    weak = any(v != "NT" and v < 4 for k, v in f.items.items() if k[0] == "motor")
-    if (w[np.isin(at.pattern_of, COMPRESSIVE)].sum() > 0.1 or f.phase == "acute" or weak
-            or _myelopathy_signs(f)):
-        out.append(C.EMERGENCY)
-    a = anatomy()
-    cord = ~np.isin(at.pattern_of, OUTSIDE_THE_CORD)
-    k = at.item_index[("sign", "diaphragm", "")]
-    bilateral = np.array([v.side == "both" for v in at.variants])[at.variant]
-    weak_diaphragm = cord & bilateral & (at.likely[k] == item_values(("sign", "diaphragm", "")).index("weak"))
-    acute_cervical = cord & (at.top <= a.index("C8")) & (f.phase == "acute")
-    if (w[weak_diaphragm | acute_cervical].sum() > CAUTION_MASS
-            or f.items.get(("sign", "diaphragm", "")) == "weak"):
-        out.append(C.BREATHING)
-    if w[cord & (at.top <= a.index("T6"))].sum() > CAUTION_MASS:
-        out.append(C.DYSREFLEXIA)
-    out.append(C.DECISION_SUPPORT)
-    return tuple(out)
+def ranking_cautions(at, post, f: Findings, hyps=(), classification=None) -> tuple[str, ...]:
+    """The cautions that fit this exam (`cautions.applicable`), always ending with the decision-support line."""
+    return C.applicable(at, post, f, classification)
 
 
 # ------------------------------------------------------------------ batch (many exams at once)
