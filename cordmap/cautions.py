@@ -17,8 +17,8 @@ The rules, each with where it comes from (check values: /work/shared/reference/c
   (C8 and above), or a weak diaphragm entered (check values section 8, breathing: common clinical practice, no
   source). A one-sided lesion (hemicord, side compression, one anterior horn) counts from C4 up (the phrenic nucleus'
   main segment) when it is predicted to weaken the diaphragm: one paralysed hemidiaphragm is usually tolerated at
-  rest (from memory; judgement). Acute complete: the acute phase with a candidate predicting no sacral sparing, or the entered exam
-  classified AIS A with its neurological level at C8 or above.
+  rest (from memory; judgement). Acute complete: the acute phase with a candidate predicting no sacral sparing,
+  or the entered exam classified AIS A with its neurological level at C8 or above.
 * cauda equina and conus syndromes: surgical emergencies needing urgent lumbosacral imaging (check values
   section 8: common clinical practice, no source).
 * acute myelopathy: extensor plantars, retention or a sensory level entered, the acute phase, or a leading cord
