@@ -27,16 +27,39 @@ def _params(pairs: list[str]) -> dict[str, float]:
     return out
 
 
+def _deprecated(old: str, new: str) -> None:
+    print(f"cordmap: note: {old} is now spelled {new}; the old spelling will go", file=sys.stderr)
+
+
 def _lesion(args, pattern: str) -> Lesion:
-    return Lesion(pattern, args.side, args.top, args.bottom, _params(args.param), args.phase)
+    top, bottom = args.rostral, args.caudal
+    if args.old_top is not None:
+        _deprecated("--top", "--rostral")
+        top = top if top is not None else args.old_top
+    if args.old_bottom is not None:
+        _deprecated("--bottom", "--caudal")
+        bottom = bottom if bottom is not None else args.old_bottom
+    return Lesion(pattern, args.side, top or "T6", bottom, _params(args.param), args.phase)
+
+
+def _shown(args) -> int:
+    """How many hypotheses to list: --show, or the old --top with a note."""
+    if args.old_top is not None:
+        _deprecated("--top", "--show")
+        return args.show if args.show is not None else args.old_top
+    return args.show if args.show is not None else args.default_show
 
 
 def _add_lesion_args(p, positional: bool = True):
     if positional:
         p.add_argument("pattern", help="pattern id (see `cordmap patterns`)")
     p.add_argument("--side", default="both", help="left, right or both (the damaged side)")
-    p.add_argument("--top", default="T6", help="most rostral cord segment, e.g. T6")
-    p.add_argument("--bottom", default=None, help="most caudal cord segment (default: the top)")
+    p.add_argument("--rostral", default=None, metavar="SEGMENT",
+                   help="the lesion's most rostral (upper) cord segment, e.g. T6 (default T6)")
+    p.add_argument("--caudal", default=None, metavar="SEGMENT",
+                   help="the lesion's most caudal (lower) cord segment (default: the rostral one)")
+    p.add_argument("--top", dest="old_top", default=None, help=argparse.SUPPRESS)  # old spelling of --rostral
+    p.add_argument("--bottom", dest="old_bottom", default=None, help=argparse.SUPPRESS)  # old --caudal
     p.add_argument("--param", action="append", metavar="NAME=VALUE", help="pattern parameter, repeatable")
     p.add_argument("--phase", default="chronic", help="chronic or acute (spinal shock)")
 
@@ -111,7 +134,7 @@ def cmd_section(args):
 def cmd_rank(args):
     from .rank import rank
 
-    r = rank(Path(args.file), top=args.top)  # a Path: the argument is a file name, whatever its first character
+    r = rank(Path(args.file), top=_shown(args))  # a Path: the argument is a file name, whatever its first character
     if args.json:
         print(r.to_json())
     else:
@@ -124,7 +147,7 @@ def cmd_demo(args):
 
     f = demo.case(args.case)
     print(f"Demo case (invented): {f.label}\n")
-    r = rank(f, top=args.top)
+    r = rank(f, top=_shown(args))
     print(r.to_json()) if args.json else _print_ranking(r)
 
 
@@ -228,6 +251,13 @@ def _count(text: str) -> int:
     return int(text)
 
 
+def _add_show_args(s, default: int) -> None:
+    s.add_argument("--show", type=_count, default=None, metavar="N",
+                   help=f"how many hypotheses to list, 1..{MAX_TOP} (default {default})")
+    s.add_argument("--top", dest="old_top", type=_count, default=None, help=argparse.SUPPRESS)  # old --show
+    s.set_defaults(default_show=default)
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="cordmap", description="Localize a spinal cord lesion from the bedside exam. "
                                 + C.BANNER)
@@ -246,7 +276,7 @@ def build_parser() -> argparse.ArgumentParser:
     s.set_defaults(func=cmd_section)
     s = sub.add_parser("rank", help="rank lesion hypotheses for a findings file")
     s.add_argument("file")
-    s.add_argument("--top", type=_count, default=10, help=f"hypotheses to list, 1..{MAX_TOP}")
+    _add_show_args(s, 10)
     s.add_argument("--json", action="store_true")
     s.set_defaults(func=cmd_rank)
     s = sub.add_parser("batch", help="rank a cohort (CSV with case_id, or JSONL) into a CSV")
@@ -257,7 +287,7 @@ def build_parser() -> argparse.ArgumentParser:
     s.set_defaults(func=cmd_batch)
     s = sub.add_parser("demo", help="rank a built-in invented demo case")
     s.add_argument("--case", default="thoracic-hemicord")
-    s.add_argument("--top", type=_count, default=5, help=f"hypotheses to list, 1..{MAX_TOP}")
+    _add_show_args(s, 5)
     s.add_argument("--json", action="store_true")
     s.set_defaults(func=cmd_demo)
     s = sub.add_parser("classify", help="ISNCSCI levels, completeness and impairment grade")

@@ -22,7 +22,7 @@ def test_patterns_lists_every_id(capsys):
 
 
 def test_simulate_prints_a_findings_document(capsys):
-    assert main(["simulate", "hemisection", "--side", "left", "--top", "T6"]) == 0
+    assert main(["simulate", "hemisection", "--side", "left", "--rostral", "T6"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["format"] == "cordmap-findings/1"
     assert doc["motor"]["left"]["L3"] == 0 and doc["motor"]["right"]["L3"] == 5
@@ -30,7 +30,7 @@ def test_simulate_prints_a_findings_document(capsys):
 
 @pytest.mark.parametrize("args, needle", [
     (["simulate", "hemi"], "did you mean hemisection"),
-    (["simulate", "complete", "--top", "T13"], "did you mean T12"),
+    (["simulate", "complete", "--rostral", "T13"], "did you mean T12"),
     (["simulate", "hemisection", "--side", "up"], "allowed left, right"),
     (["simulate", "central", "--param", "size"], "NAME=VALUE"),
     (["simulate", "central", "--param", "size=big"], "not a number"),
@@ -49,9 +49,9 @@ def test_rank_text_and_json(tmp_path):
 
     path = tmp_path / "case.json"
     path.write_text(simulate(Lesion("complete", "both", "T8")).to_json())
-    text = run("rank", str(path), "--top", "3")
+    text = run("rank", str(path), "--show", "3")
     assert text.returncode == 0
-    assert "complete T8" in text.stdout and "Decision support, not a diagnosis" in text.stdout
+    assert "whole cross-section of the cord at T8" in text.stdout and "Decision support, not a diagnosis" in text.stdout
     js = json.loads(run("rank", str(path), "--json").stdout)
     assert js["format"] == "cordmap-ranking/1" and js["hypotheses"][0]["pattern"] == "complete"
 
@@ -60,7 +60,7 @@ def test_demo_runs_with_cautions():
     r = run("demo")
     assert r.returncode == 0
     assert "invented" in r.stdout and "Decision support, not a diagnosis" in r.stdout
-    assert "hemisection" in r.stdout.split("\n 2.")[0]
+    assert "half of the cord (Brown-Séquard)" in r.stdout.split("\n 2.")[0]
 
 
 def test_bad_rank_file(tmp_path):
@@ -109,12 +109,30 @@ def test_batch_tidy_csv(tmp_path):
     assert res.loc["x1", "pattern"] == "complete"
     assert res.loc["x2", "pattern"] in ("hemisection", "lateral_compression") and res.loc["x2", "side"] == "right"
     # the right hemisection T4 and a right lateral compression of depth 0.5 predict the same exam: one row names both
-    other = "lateral compression" if res.loc["x2", "pattern"] == "hemisection" else "hemisection"
+    other = "compression from the right" if res.loc["x2", "pattern"] == "hemisection" else "right half of the cord"
     assert other in res.loc["x2", "same_exam"]
 
 
 def test_section_png(tmp_path):
     out = tmp_path / "s.png"
-    r = run("section", "C5", "--lesion", "hemisection", "--side", "left", "--top", "C5", "-o", str(out))
+    r = run("section", "C5", "--lesion", "hemisection", "--side", "left", "--rostral", "C5", "-o", str(out))
     assert r.returncode == 0, r.stderr
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_extent_and_count_have_their_own_options(capsys):
+    """--rostral/--caudal give the lesion's extent, --show the number of hypotheses listed; the old --top and
+    --bottom still work with a note on stderr (issue 12: --top meant both)."""
+    assert main(["simulate", "hemisection", "--side", "left", "--rostral", "T6", "--caudal", "T7"]) == 0
+    out = capsys.readouterr()
+    assert '"T6-T7"' in out.out or "T6" in out.out
+    assert "note" not in out.err
+    assert main(["simulate", "hemisection", "--side", "left", "--top", "T6", "--bottom", "T7"]) == 0
+    err = capsys.readouterr().err
+    assert "--top is now spelled --rostral" in err and "--bottom is now spelled --caudal" in err
+    assert main(["demo", "--show", "2"]) == 0
+    out = capsys.readouterr()
+    assert " 2. " in out.out and " 3. " not in out.out and "note" not in out.err
+    assert main(["demo", "--top", "1"]) == 0
+    out = capsys.readouterr()
+    assert " 1. " in out.out and " 2. " not in out.out and "--top is now spelled --show" in out.err

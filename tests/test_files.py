@@ -161,8 +161,8 @@ def test_a_path_is_a_path_whatever_its_first_character(tmp_path, name):
     p = tmp_path / name
     p.write_text(DOC)
     assert parse(p).items == parse(DOC).items
-    r = run("rank", "--top", "1", "--", p)
-    assert r.returncode == 0 and "complete T8" in r.stdout, r.stderr
+    r = run("rank", "--show", "1", "--", p)
+    assert r.returncode == 0 and "whole cross-section of the cord at T8" in r.stdout, r.stderr
 
 
 def _answers_within(fn, seconds: float):
@@ -211,5 +211,5 @@ def test_messages_cut_long_values():
 
 def test_top_must_be_positive():
     for bad in ("0", "-5", "x", "²"):
-        r = run("demo", "--top", bad)
+        r = run("demo", "--show", bad)
         assert r.returncode == 2 and "1..100" in r.stderr and "Traceback" not in r.stderr

@@ -77,5 +77,5 @@ def test_fuzzed_files_on_the_command_line_exit_0_or_2(tmp_path):
     for i, (_form, value) in enumerate(documents(60, seed=99)):
         p = tmp_path / f"case-{i}.json"
         p.write_bytes(file_bytes(value))
-        codes.append(_cli("rank", str(p), "--top", "2") if i % 2 else _cli("classify", str(p)))
+        codes.append(_cli("rank", str(p), "--show", "2") if i % 2 else _cli("classify", str(p)))
     assert set(codes) <= {0, 2} and 0 in codes and 2 in codes

@@ -83,7 +83,7 @@ def test_lesion_mask_is_the_lesion_module_mask():
 def test_titles_and_caution_footer():
     fig = P.draw_section("T6", Lesion("hemisection", "left", "T6"))
     texts = [t.get_text() for t in fig.texts]
-    assert "T6 cross-section \u2014 left hemisection T6" in texts
+    assert "T6 cross-section \u2014 left half of the cord (Brown-Séquard) at T6" in texts
     assert DECISION_SUPPORT in texts
     body = P.draw_body_map(None, None)
     assert DECISION_SUPPORT in [t.get_text() for t in body.texts]
