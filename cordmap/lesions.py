@@ -412,8 +412,9 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     # It has no mask and no level; `top` is a placeholder at S1 (the feet go first).
     Pattern("polyneuropathy", "a length-dependent peripheral polyneuropathy: distal loss, ankle jerks first",
             ("both",), _normal,
-            (Param("neuropathy", 0.65, (0.35, 0.65, 1.0), 0.05, 1.0,
-                   "severity (0.35 loses the ankle jerks and numbs the toes; 1 reaches the knees and the hands)"),),
+            (Param("neuropathy", 0.65, (0.2, 0.35, 0.65, 1.0), 0.05, 1.0,
+                   "severity (0.2 reduces the ankle jerks; 0.35 loses them and numbs the toes; 1 reaches the knees "
+                   "and the hands)"),),
             tops=("S1", "S1"), single=True),
     # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
     Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,
