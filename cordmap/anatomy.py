@@ -42,7 +42,7 @@ class Anatomy:
     reflex_segments: dict[str, tuple[int, ...]]
     column_table: pd.DataFrame
     lamination_table: pd.DataFrame
-    axon_cm: dict[str, tuple[float, ...]]  # 'sensory'/'motor' -> per segment, its longest peripheral axon (cm)
+    axon_cm: dict[str, tuple[float, ...]]  # 'sensory'/'motor'/'dorsal_column' -> per segment, axon length (cm)
 
     def index(self, seg: str, where: str = "segment") -> int:
         try:
@@ -95,11 +95,11 @@ def anatomy() -> Anatomy:
         if bad:
             raise CordmapError(f"cordmap/data/columns.csv: unknown segments {sorted(bad)}")
     lam = _table("lamination.csv", ("tract", "axis", "outer_or_lateral", "inner_or_medial"))
-    ax = _table("axons.csv", ("segment", "sensory_cm", "motor_cm"))
+    ax = _table("axons.csv", ("segment", "sensory_cm", "motor_cm", "dorsal_column_cm"))
     if tuple(ax["segment"]) != segs:
         raise CordmapError("cordmap/data/axons.csv: expected the 31 segments C1..Co1 in order")
     try:
-        axons = {k: tuple(float(v) for v in ax[f"{k}_cm"]) for k in ("sensory", "motor")}
+        axons = {k: tuple(float(v) for v in ax[f"{k}_cm"]) for k in ("sensory", "motor", "dorsal_column")}
     except ValueError:
         raise CordmapError("cordmap/data/axons.csv: lengths must be numbers") from None
     if any(not 0 < v < 200 for vs in axons.values() for v in vs):

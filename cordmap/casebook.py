@@ -149,6 +149,8 @@ def vertebra_span(levels) -> tuple[int, int] | None:
 
 def window_covers(levels, image) -> bool:
     """Whether an imaging window reaches every vertebra the case says must be imaged."""
+    if not image:  # nothing to image (a polyneuropathy): right when the window is empty too
+        return not levels
     span = vertebra_span(levels)
     return span is not None and all(span[0] <= SPINE.index(v) <= span[1] for v in image)
 

@@ -224,6 +224,10 @@ SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: abse
 # practice, no source).
 UMN_THRESHOLD = 0.2
 ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
+# The plantar response is a cutaneous reflex over three segments (L5-S2): it stays (flexor, or extensor above a
+# corticospinal lesion) until most of its arc is gone. Extensor plantars with absent ankle jerks are the classic
+# pairing of a myelopathy with a neuropathy (combined degeneration; from memory, standard neurology teaching).
+PLANTAR_ARC_ABSENT = 0.8
 # Weakness from corticospinal loss is not in proportion to it: a small partial loss spares power (an early
 # myelopathy is spastic with brisk reflexes and at most grade 4 weakness) and losing most of the tract paralyses.
 # The weakness rises linearly from 0 at UMN_RAMP[0] of the lateral tract lost to 1 at UMN_RAMP[1] (a third of the
@@ -298,7 +302,7 @@ def _reflex_index(name, ar, released_loss, acute):
     from .findings import PLANTAR, PRESENCE
 
     released = released_loss >= UMN_THRESHOLD
-    broken = ar >= ARC_ABSENT
+    broken = ar >= (PLANTAR_ARC_ABSENT if name == "plantar" else ARC_ABSENT)
     if name in TENDON_REFLEXES:
         idx = np.where(broken, 0, np.where(ar >= ARC_REDUCED, 1, np.where(released, np.where(acute, 0, 3), 2)))
     elif name == "plantar":

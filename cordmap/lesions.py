@@ -173,20 +173,44 @@ def _posterolateral(sec, xs, side, p):
     # are spared, and the lateral spinothalamic tract lies ventral to the sector, so pinprick is kept.
     # The degeneration begins in the dorsal columns and reaches the lateral columns later and less (from memory,
     # standard neurology teaching on combined degeneration): the dorsal columns lose twice the share `severity`
-    # (all of it from severity 0.5), the dorsolateral funiculi LATERAL_SHARE of it: brisk knee jerks and extensor
-    # plantars with little weakness are the usual picture, severe spastic weakness a late one (from memory).
-    # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms; from
-    # memory, standard neurology teaching on B12 deficiency): a laminated fibre's share grows with the length of
-    # its body segment's path, from LENGTH_SHARE[0] x severity at C1 to LENGTH_SHARE[1] x severity at S5.
+    # (all of it from severity 0.5), the dorsolateral funiculi the share `lateral` of it (LATERAL_SHARE when not
+    # given): brisk knee jerks and extensor plantars with little weakness are the usual picture, Hoffmann signs and
+    # brisk arm jerks in some, severe spastic weakness a late one (from memory).
+    # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms, the toes
+    # before the ankles; from memory, standard neurology teaching on B12 deficiency). In the dorsal columns a
+    # dying-back front (`_dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
+    # `data/axons.csv`); in the lateral columns a share growing with the body segment, from LENGTH_SHARE[0] x the
+    # share at C1 to LENGTH_SHARE[1] x at S5 (`_thin_by_length`).
     white = _white(sec)
     dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
     lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
-    return _thin_by_length(sec, dc, 2 * p["severity"]) | _thin_by_length(sec, lateral, LATERAL_SHARE * p["severity"])
+    lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
+    return _dying_back(sec, dc, p["severity"]) | _thin_by_length(sec, lateral, lateral_share)
 
 
 LENGTH_SHARE = (0.55, 1.45)
 LATERAL_SHARE = 0.6
+
+
+# The dorsal columns' dying-back front: at severity s the fibres whose whole axon (ganglion to skin plus dorsal
+# column to the medulla) is longer than DC_FRONT[0] - DC_FRONT[1] x s cm are lost, over a graded edge of DC_RAMP cm
+# (s = 0.35: the toes' fibres gone and the ankles' impaired; 0.65: the legs to the knee, the fingers impaired; 1:
+# all). Judgement on the dying-back teaching above, set on the lengths of data/axons.csv.
+DC_FRONT = (150.0, 120.0)
+DC_RAMP = 30.0
+
+
+def _dying_back(sec, mask, severity):
+    """`mask` thinned by a length-dependent front: each laminated pixel's share lost grows with the length of its
+    body segment's whole sensory axon (other pixels: the share at the mean length)."""
+    if severity >= 1:
+        return mask
+    a = anatomy()
+    length = np.array(a.axon_cm["sensory"]) + np.array(a.axon_cm["dorsal_column"])
+    lost = np.clip((length - (DC_FRONT[0] - DC_FRONT[1] * severity)) / DC_RAMP, 0.0, 1.0)
+    share = np.where(sec.body >= 0, lost[np.clip(sec.body, 0, len(lost) - 1)], lost.mean())
+    return mask & (_dither_rank(sec) < share)
 
 
 def _thin_by_length(sec, mask, severity):
@@ -252,8 +276,10 @@ def _anterior_horn(sec, xs, side, p):
 # Motor neuron disease spares the sphincters: Onuf's nucleus (the anal and urethral sphincters' motor neurons in
 # the ventral horn of S2-S4) survives, and continence is kept to the end (from memory; Mannen et al., J Neurol
 # Neurosurg Psychiatry 1977, on the preserved sacral motor neurons in ALS). The pattern keeps the sacral ventral
-# horns (S2-S5) and the corticospinal fibres bound for them.
+# horns (S2-S5) and the corticospinal fibres bound for the sphincters' segments (S3-S5; those for S2 take part in
+# the plantar response, which is extensor in the disease).
 _ONUF = ("S2", "S5")
+_SPHINCTER_CST = ("S3", "S5")
 
 
 def _motor_neuron(sec, xs, side, p):
@@ -261,6 +287,7 @@ def _motor_neuron(sec, xs, side, p):
     a = anatomy()
     lo, hi = a.index(_ONUF[0]), a.index(_ONUF[1])
     horn = (st == S["ventral_horn"]) & (not lo <= sec.index <= hi)
+    lo, hi = a.index(_SPHINCTER_CST[0]), a.index(_SPHINCTER_CST[1])
     cst = ((st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])) & ~((sec.body >= lo)
                                                                                           & (sec.body <= hi))
     return _thin(sec, horn, p["severity"]) | _thin(sec, cst, p["severity"] * p.get("upper", 1.0))
@@ -356,6 +383,11 @@ COMPRESSION_MAX_EXTENT = 8
 # the conus medullaris and its epiconus; a lesion there is the conus pattern's, so two names do not split one
 # picture).
 CORD_TOPS = ("C1", "L4")
+# Combined degeneration is a disease of the cervical and thoracic cord (its dorsal columns carry every fibre from
+# below there); one starting in the lumbosacral cord would reach few fibres and predict the exam of its neuropathy
+# alone (from memory, standard neurology teaching: the lesions are most marked in the cervical and upper thoracic
+# cord).
+DEGENERATION_TOPS = ("C1", "T12")
 
 PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("complete", "the whole cross-section at every segment of the extent (transection, complete myelitis)",
@@ -372,9 +404,14 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
              _INCOMPLETE), atlas_tops=CORD_TOPS),
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
-            ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),)),
+            ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),),
+            diffuse=True),
     Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
-            ("both",), _posterolateral, (_DEGENERATION, _NEUROPATHY), diffuse=True),
+            ("both",), _posterolateral,
+            (_DEGENERATION, _NEUROPATHY,
+             Param("lateral", LATERAL_SHARE, (LATERAL_SHARE, 1.0), 0.1, 1.0,
+                   "the dorsolateral columns' share of `severity` (below 1: they lag behind the dorsal columns)")),
+            diffuse=True, atlas_tops=DEGENERATION_TOPS),
     Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",
             ("left", "right"), _lateral_compression, (_DEPTH, _INCOMPLETE),
             max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS),
@@ -411,8 +448,9 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     # It has no mask and no level; `top` is a placeholder at S1 (the feet go first).
     Pattern("polyneuropathy", "a length-dependent peripheral polyneuropathy: distal loss, ankle jerks first",
             ("both",), _normal,
-            (Param("neuropathy", 0.65, (0.35, 0.65, 1.0), 0.05, 1.0,
-                   "severity (0.35 loses the ankle jerks and numbs the toes; 1 reaches the knees and the hands)"),),
+            (Param("neuropathy", 0.65, (0.2, 0.35, 0.65, 1.0), 0.05, 1.0,
+                   "severity (0.2 reduces the ankle jerks; 0.35 loses them and numbs the toes; 1 reaches the knees "
+                   "and the hands)"),),
             tops=("S1", "S1"), single=True),
     # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
     Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,

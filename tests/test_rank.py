@@ -820,7 +820,8 @@ def test_motor_only_exam_leaves_sensation_open(atlas):
     k = atlas.item_index[("sensory", "pinprick", "left", "L3")]
     loses = atlas.logp[atlas.offsets[k]:atlas.offsets[k + 1]].argmax(axis=0) != 2
     gap = abs(ll[loses].max() - ll[~loses].max())
-    p = np.exp(ll - ll.max())
+    lp = ll + size_prior(atlas)  # the posterior rank() computes (a flat prior would count grid points)
+    p = np.exp(lp - lp.max())
     p /= p.sum()
     print(f"\nmotor only: P(pinprick lost L3) {p[loses].sum():.3f}, best-vs-best gap {gap:.2f} nats")
     assert gap < 3.0
