@@ -65,6 +65,8 @@ def _add_lesion_args(p, positional: bool = True):
 
 
 def _print_ranking(r, out=None):
+    from .imaging import span
+
     w = (out or sys.stdout).write  # looked up at call time, so redirected output is honoured
     w(f"cordmap ranking - {r.examined} findings examined\n\n")
     verdict = {"poor": "!! POOR FIT", "normal": "NORMAL", "empty": "NOTHING ENTERED"}.get(r.fit)
@@ -77,7 +79,11 @@ def _print_ranking(r, out=None):
             w(f"    or: {'; '.join(v.describe() for v in h.variants)} (imaging tells which)\n")
         if h.same_exam:
             w(f"    same predicted exam: {h.same_exam_text()} (no bedside test separates them; imaging does)\n")
-        w(f"    image vertebrae: {', '.join(h.vertebral_levels) or 'none (no lesion)'}\n")
+        w(f"    image vertebrae: {', '.join(h.vertebral_levels) or 'none (nothing in the spine to image)'}\n")
+        if h.rank <= 3:
+            for win in h.imaging:
+                head = "also" if win.advice else "why"
+                w(f"      {head} {span(win.levels)}: {win.why}\n")
         if h.rank <= 3:
             for e in h.explains[:6]:
                 w(f"    + {e}\n")

@@ -17,7 +17,7 @@ import pandas as pd
 from . import atlas as atlas_mod
 from . import cautions as C
 from . import observation
-from .anatomy import MODALITIES, SIDES, anatomy, cord_region
+from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, item_label, item_values, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
 from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read them here)
@@ -35,14 +35,11 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     same_exam,
     same_exam_groups,
 )
-from .lesions import NORMAL, PATTERNS, Lesion
+from .imaging import Window, merge_levels, merge_windows, vertebral_levels, windows  # noqa: F401 (re-exported)
+from .lesions import NORMAL, Lesion
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
-COMPRESSIVE = ("lateral_compression", "anterior_compression", "posterior_compression", "cauda_equina", "conus")
-# Imaging window of a cord lesion, in cord segments around its rostral segment (see vertebral_levels): judgement
-# from common clinical practice (image above the sensory level; an extrinsic mass may lie several segments higher).
-WINDOW_ABOVE, WINDOW_ABOVE_COMPRESSION, WINDOW_BELOW_MIN, WINDOW_BELOW = 2, 3, 2, 4
 NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 
 
@@ -79,6 +76,14 @@ class Hypothesis:
     same_exam: tuple[Lesion, ...] = ()
     same_exam_count: int = 0
     variants: tuple[Lesion, ...] = ()
+    # where to image and why (`cordmap.imaging`): the windows of the lesion, its variants and the listed lesions
+    # with its exam; `vertebral_levels` merges those that hold without a condition
+    imaging: tuple[Window, ...] = ()
+
+    @property
+    def description(self) -> str:
+        """The leading lesion in plain words (`cordmap.words`)."""
+        return self.lesion.describe()
 
     def predicted(self) -> Findings:
         return simulate(self.lesion)
@@ -98,7 +103,8 @@ class Hypothesis:
                                "params": o.all_params()} for o in self.same_exam],
                 "same_exam_count": self.same_exam_count,
                 "variants": [{"pattern": o.pattern, "side": o.side, "top": o.top, "bottom": o.bottom,
-                              "params": o.all_params()} for o in self.variants]}
+                              "params": o.all_params(), "description": o.describe()} for o in self.variants],
+                "description": self.description, "imaging": [w.to_dict() for w in self.imaging]}
 
 
 @dataclass(frozen=True)
@@ -252,57 +258,6 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
 
 # ------------------------------------------------------------------ hypotheses in words
 
-def vertebral_levels(lesion: Lesion) -> tuple[str, ...]:
-    """Vertebral bodies to image for a lesion (adult segment-to-vertebra table)."""
-    a = anatomy()
-    t, b = lesion.top_index, lesion.bottom_index
-    if lesion.pattern == "root":
-        seg = lesion.top
-        region, n = seg[0], int(seg[1:])
-        if region == "C":  # cervical root n leaves above vertebra n (C8 between C7 and T1)
-            return (f"C{n - 1}-C{n}",) if n <= 7 else ("C7-T1",)
-        if region == "T":
-            return (f"T{n}-T{n + 1}",) if n < 12 else ("T12-L1",)
-        if region == "L":  # lumbar root n leaves below vertebra n; a disc one level higher can catch it in the canal
-            below = f"L{n}-L{n + 1}" if n < 5 else "L5-S1"
-            return (f"L{n - 1}-L{n}" if n > 1 else "T12-L1", below)
-        return ("L5-S1", "sacrum")
-    if lesion.pattern == "cauda_equina":
-        return ("L1", "L2", "L3", "L4", "L5", "S1")
-    if lesion.pattern in (NORMAL, "polyneuropathy"):  # nothing in the spine to image
-        return ()
-    if lesion.pattern in PATTERNS and PATTERNS[lesion.pattern].diffuse:
-        return _diffuse_window(lesion)
-    # A cord lesion's rostral edge is uncertain by a segment or two (a sensory level lies at or below its lesion),
-    # and an extrinsic one can sit several segments above the level it produces: the window starts WINDOW_ABOVE
-    # segments above the rostral segment and ends at the caudal one, or WINDOW_BELOW segments below the rostral
-    # one for a long lesion (what the MRI must show is where the lesion starts), and at least WINDOW_BELOW_MIN
-    # segments below the rostral one (the lesion's own segments are uncertain too).
-    above = WINDOW_ABOVE_COMPRESSION if lesion.pattern in COMPRESSIVE else WINDOW_ABOVE
-    t, b = max(0, t - above), min(max(b, t + WINDOW_BELOW_MIN), t + WINDOW_BELOW, len(a.segments) - 1)
-    out = []
-    for s in range(t, b + 1):
-        v = a.vertebra(a.segments[s])
-        if v not in out:
-            out.append(v)
-    if lesion.pattern == "conus" and "L2" not in out:
-        out.append("L2")
-    return tuple(out)
-
-
-# A diffuse degeneration has no one level to image: the MRI looks for what it shows (the dorsal columns' signal in
-# combined degeneration, usually cervical and upper thoracic) and for the compression or inflammation that mimics
-# it, over the region of the cord where the signs begin and the region below (cervical and thoracic spine for a
-# cervical picture; thoracic spine and conus for a thoracic one). Common clinical practice, no source.
-_REGIONS = (("C1", "T12"), ("T1", "Co1"), ("L1", "Co1"))
-
-
-def _diffuse_window(lesion: Lesion) -> tuple[str, ...]:
-    a = anatomy()
-    first, last = (a.index(s) for s in _REGIONS[cord_region(lesion.top_index)])
-    return tuple(dict.fromkeys(a.vertebra(a.segments[s]) for s in range(first, last + 1)))
-
-
 def _ranges(derms: list[str]) -> str:
     a = anatomy().dermatomes
     idx = sorted(a.index(d) for d in derms)
@@ -373,23 +328,10 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     if others:
         summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
         summary += f" and {len(same) - 2} more" if len(same) > 2 else ""
-    levels = _merge_levels([vertebral_levels(x) for x in (lesion, *variants, *others)])
+    wins = merge_windows(windows(x) for x in (lesion, *variants, *others))
+    levels = merge_levels([w.levels for w in wins if not w.advice])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(same), variants)
-
-
-
-_SPINE = [f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)] + \
-    ["S1", "sacrum"]
-
-
-def _merge_levels(lists: list[tuple[str, ...]]) -> tuple[str, ...]:
-    """The union of several lesions' vertebral levels, head to tail (a disc level 'L4-L5' after 'L4')."""
-    seen = list(dict.fromkeys(v for levels in lists for v in levels))
-    if len(lists) == 1:
-        return tuple(seen)
-    return tuple(sorted(seen, key=lambda v: (_SPINE.index(v.split("-")[0]) if v.split("-")[0] in _SPINE
-                                             else len(_SPINE), "-" in v)))
+                      summary, others, len(same), variants, wins)
 
 
 
@@ -464,7 +406,7 @@ def batch_leaders(at: atlas_mod.Atlas, score: np.ndarray, n: int = 2) -> list[tu
         i = int(members[0])
         others = tuple(at.lesion(int(j)) for j in listed(at, same_exam(at, i, score)))
         lesion = at.lesion(i)
-        out.append((lesion, prob, _merge_levels([vertebral_levels(x) for x in (lesion, *others)]), others))
+        out.append((lesion, prob, merge_levels([vertebral_levels(x) for x in (lesion, *others)]), others))
     return out
 
 
