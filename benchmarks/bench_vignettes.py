@@ -4,8 +4,10 @@
 
 Prints top-1 and top-3 hit rates, imaging-window agreement, two-lesion flags and single-lesion false alarms,
 normal-exam verdicts, the Brier score of the leader's probability and a reliability table, overall and per
-family; with --misses, every case the leader gets wrong. Point it at any folder of `cordmap-vignette/1` files
-(an outside corpus is measured the same way).
+family; for the next tests (`cordmap.nexttests`), how many suggestions cannot be done at the bedside and in how
+many cases the first one separates lesions managed differently (`separates_management`); with --misses, every
+case the leader gets wrong. Point it at any folder of `cordmap-vignette/1` files (an outside corpus is measured
+the same way).
 """
 from __future__ import annotations
 
@@ -16,6 +18,7 @@ from pathlib import Path
 import pandas as pd
 
 from cordmap.casebook import load_cases, per_family, reliability, results_table, score, summary
+from cordmap.nexttests import feasible, separates_management
 from cordmap.rank import rank
 
 HERE = Path(__file__).resolve().parent
@@ -41,6 +44,16 @@ def main(argv: list[str]) -> int:
     print(f"per family (single-lesion cases):\n{per_family(results).to_string()}\n")
     print(f"reliability (single-lesion cases; stated = mean leader probability, right = share correct):\n"
           f"{reliability(results).to_string()}\n")
+    t0 = time.perf_counter()
+    suggested, infeasible, separating, ranked = 0, 0, 0, 0
+    for c in cases:
+        r = rank(c.findings, top=5, next_tests=3, classify=False)
+        suggested += len(r.next_tests)
+        infeasible += sum(not feasible(t.item) for t in r.next_tests)
+        if r.fit != "empty":
+            ranked += 1
+            separating += bool(r.next_tests) and separates_management(r.next_tests[0])
+    dt_tests = (time.perf_counter() - t0) / len(cases)
     s = summary(results)
     print(f"{folder}: {s['cases']} cases ({s['single']} single lesions, {s['two_lesions']} two lesions, "
           f"{s['normal']} normal); rank() {dt * 1000:.0f} ms per case")
@@ -48,6 +61,9 @@ def main(argv: list[str]) -> int:
           f"Brier {s.get('brier', 0):.3f}")
     print(f"two-lesion flags {s.get('two_lesion_flags', 0):.1%}  single-lesion false alarms "
           f"{s.get('false_alarms', 0):.1%}  normal exams called normal {s.get('normal_called_normal', 0):.1%}")
+    print(f"next tests (3 per case, rank() with them {dt_tests * 1000:.0f} ms per case): {suggested} suggested, "
+          f"{infeasible} infeasible at the bedside; the first separates lesions managed differently in "
+          f"{separating / max(ranked, 1):.1%} of {ranked} cases")
     return 0
 
 

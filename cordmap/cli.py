@@ -90,9 +90,11 @@ def _print_ranking(r, out=None):
             for c in h.conflicts[:6]:
                 w(f"    - {c}\n")
     if r.next_tests:
-        w("\nNext tests that would best separate the leading hypotheses:\n")
+        w("\nNext tests whose answer would most change what is done:\n")
         for t in r.next_tests:
             w(f"  * {t.why}\n")
+    elif r.fit in ("good", "poor"):
+        w("\nNo bedside test left would change what is done: imaging tells the remaining hypotheses apart.\n")
     if r.classification is not None:
         w(f"\nISNCSCI classification: {classification_line(r.classification.to_dict())}\n")
     w("\nCautions:\n")

@@ -16,7 +16,7 @@ import pandas as pd
 
 from . import atlas as atlas_mod
 from . import cautions as C
-from . import observation
+from . import nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, item_label, item_values, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
@@ -37,10 +37,10 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
 )
 from .imaging import Window, merge_levels, merge_windows, vertebral_levels, windows  # noqa: F401 (re-exported)
 from .lesions import NORMAL, Lesion
+from .nexttests import NextTest  # noqa: F401 (re-exported)
 from .simulate import simulate
 
 FORMAT = "cordmap-ranking/1"
-NEXT_TEST_POOL = 200  # candidates considered for the next-test calculation
 
 
 def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
@@ -108,14 +108,6 @@ class Hypothesis:
 
 
 @dataclass(frozen=True)
-class NextTest:
-    item: tuple
-    finding: str
-    why: str
-    gain: float
-
-
-@dataclass(frozen=True)
 class Ranking:
     hypotheses: tuple[Hypothesis, ...]
     fit: str
@@ -141,7 +133,8 @@ class Ranking:
 
     def to_dict(self) -> dict:
         d = {"format": FORMAT, "hypotheses": [h.to_dict() for h in self.hypotheses], "fit": self.fit,
-             "next_tests": [{"finding": t.finding, "why": t.why} for t in self.next_tests],
+             "next_tests": [{"finding": t.finding, "why": t.why,
+                             "answers": [{"if": a, "means": m} for a, m in t.answers]} for t in self.next_tests],
              "cautions": list(self.cautions),
              "marginals": {"pattern": {k: round(v, 4) for k, v in self.pattern_marginals.items()},
                            "top": {k: round(v, 4) for k, v in self.level_marginals.items()}}}
@@ -243,7 +236,7 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     tops = np.bincount(at.top, weights=np.where(at.pattern_of == NORMAL, 0.0, post), minlength=30)
     lm = {segs[i]: float(tops[i]) for i in range(30) if tops[i] > 1e-4}
     pm = dict(sorted(pm.items(), key=lambda kv: -kv[1]))
-    order = _leading(lp, max(top, NEXT_TEST_POOL, 1))
+    order = _leading(lp, max(top, nexttests.POOL, 1))
     tests = suggest_tests(f, at, post, order, next_tests) if next_tests else ()
     cls = None
     if classify:
@@ -338,45 +331,8 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
 # ------------------------------------------------------------------ next best test
 
 def suggest_tests(f: Findings, at, post, order, n: int = 5) -> tuple[NextTest, ...]:
-    """The unexamined items whose result would most reduce uncertainty among the leading candidates."""
-    pool = order[:NEXT_TEST_POOL]
-    w = post[pool] / post[pool].sum()
-    candidates = [k for k in at.items if k not in f.items]
-    if not candidates:
-        return ()
-    logp = np.asarray(at.logp)
-    gains = []
-    for key in candidates:
-        k = at.item_index[key]
-        p = np.exp(logp[at.offsets[k]:at.offsets[k + 1], pool].astype(np.float64))  # (values, pool)
-        pv = p @ w
-        mi = float((w * (p * (np.log(p) - np.log(pv)[:, None]))).sum())
-        gains.append(mi)
-    gains = np.array(gains)
-    best = np.argsort(-gains)[:n]
-    out = []
-    for b in best:
-        if gains[b] <= 1e-4:
-            break
-        key = candidates[b]
-        out.append(NextTest(key, item_label(key), _why(key, at, pool, w), round(float(gains[b]), 4)))
-    return tuple(out)
-
-
-def _why(key, at, pool, w) -> str:
-    """One line: which two leading hypotheses this test separates, and what each expects."""
-    k = at.item_index[key]
-    p = np.exp(np.asarray(at.logp)[at.offsets[k]:at.offsets[k + 1], pool])
-    expect = p.argmax(axis=0)
-    first = 0
-    for j in range(1, len(pool)):
-        if expect[j] != expect[first] and w[j] > 1e-6:
-            vals = item_values(key)
-            a_ = at.lesion(int(pool[first])).describe()
-            b_ = at.lesion(int(pool[j])).describe()
-            return (f"{item_label(key)} separates {a_} (expects {_grade_word(key, vals[expect[first]])}) "
-                    f"from {b_} (expects {_grade_word(key, vals[expect[j]])})")
-    return f"{item_label(key)} narrows the leading hypotheses"
+    """The feasible, unexamined bedside tests whose answer would most change management (`cordmap.nexttests`)."""
+    return nexttests.suggest(f, at, post, order, n)
 
 
 # ------------------------------------------------------------------ cautions
