@@ -63,7 +63,7 @@ def report_png(findings, ranking, selected: int = 0, dpi: int = 110) -> bytes:
     fig.text(0.02, yb, "Worth examining next", fontsize=11, weight="bold", color=INK)
     for t in (ranking.next_tests if ranking else ())[:5]:
         yb -= 0.035
-        fig.text(0.03, yb, textwrap.shorten(f"• {t.finding}: {t.why}", 80), fontsize=9, color=INK)
+        fig.text(0.03, yb, textwrap.shorten(f"• {t.why}", 80), fontsize=9, color=INK)
     c = ranking.classification if ranking else None
     fig.text(0.53, 0.34, "Classification of the entered exam", fontsize=11, weight="bold", color=INK)
     if c is not None:
