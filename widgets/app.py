@@ -665,6 +665,7 @@ class ExamApp:
                                       f"{n_dis} disagreement{'s' if n_dis != 1 else ''} marked")
         levels = ", ".join(h.vertebral_levels) or "—"
         lines = [f"<b>#{h.rank} {esc(les.describe())}</b>: image the spine at <b>{esc(levels)}</b>"]
+        lines += [f"{'also, ' if w.advice else 'why: '}{esc(w.why)}" for w in getattr(h, "imaging", ())]
         if h.variants:
             lines.append(f"or (imaging tells which): {esc('; '.join(v.describe() for v in h.variants))}")
         if h.same_exam:
