@@ -52,7 +52,7 @@ THIS_DYSREFLEXIA = ("Risk of autonomic dysreflexia: a cord lesion at or above T6
                     "hypotheses. Watch for sudden hypertension with headache and act by the local protocol.")
 
 # A candidate counts toward a caution only if it predicts nearly as large a share of the entered abnormal findings
-# as the best-explaining candidate does (at least this fraction of that share): thousands of candidates that
+# as the most probable candidate does (at least this fraction of that share): thousands of candidates that
 # predict a near-normal exam (a thoracic anterior-horn lesion, say) must not raise a breathing caution for a
 # lumbar radiculopathy. Judgement, checked in tests/test_cautions.py.
 CAUTION_EXPLAINS = 0.9
@@ -80,7 +80,8 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
            if k in at.item_index and v in item_values(k) and abnormality(k)[item_values(k).index(v)] > 0]
     if abn:
         share = (np.asarray(at.abnormal)[np.array(abn)] > 0).mean(axis=0)  # predicted abnormal, any grade
-        w = np.where(share >= CAUTION_EXPLAINS * share.max(), post, 0.0)
+        reference = share[int(np.argmax(post))]  # what the most probable candidate explains
+        w = np.where(share >= CAUTION_EXPLAINS * reference, post, 0.0)
         w = w / w.sum() if w.sum() > 0 else w
     else:
         w = np.zeros_like(post)

@@ -25,7 +25,8 @@ from .findings import Findings, item_values
 POOL = 200  # candidates the ranking hands over (its leading ones); the classes' own candidates are added here
 ALTERNATIVES = 3  # management classes weighed besides the leading one
 PER_CLASS = 300  # candidates standing for each class (its most probable)
-ALIVE = 1e-9  # a class with less posterior mass counts as excluded by the exam
+ALIVE = 1e-6  # a class with less posterior mass counts as excluded by the exam
+TEMPER = 8.0  # the classes weigh as their posterior mass to the power 1/TEMPER (see suggest)
 MIN_GAIN = 1e-4  # nats: below this a test tells nothing worth an examiner's minute
 
 COMPARTMENTS = ("cord compression", "within the cord", "root", "cauda equina or conus", "outside the spine",
@@ -196,13 +197,20 @@ def class_words(c: tuple[int, int, int]) -> str:
 def suggest(f: Findings, at, post: np.ndarray, order: np.ndarray, n: int = 5) -> tuple[NextTest, ...]:
     """The n feasible, unexamined items whose answer tells most about the management class, best first.
 
-    The classes weighed are the leading one and up to ALTERNATIVES others that the exam has not excluded (posterior
-    mass above ALIVE), the most probable first, each through its PER_CLASS most probable candidates (weighed by
-    their posterior within the class). The classes weigh alike: the question a next test answers is which of the
-    management options holds, whatever the odds the exam gives them so far (judgement: a test worth doing checks
-    the leader against the likeliest alternatives that would be managed differently, even when the exam already
-    favours the leader strongly)."""
+    The classes weighed are the leading one and up to ALTERNATIVES others that the exam has not excluded
+    (posterior mass above ALIVE; a candidate predicting every examined item normal counts as no lesion), the most
+    probable first, each through its PER_CLASS most probable candidates (weighed by their posterior within the
+    class). The classes weigh as a tempered posterior (mass ** (1 / TEMPER): a hundredfold less probable
+    alternative weighs about half as much, a millionfold less probable one a sixth): the question a next test
+    answers is which of the management options holds, and a test worth doing checks the leader against the
+    likeliest alternatives that would be managed differently, even when the exam already favours the leader
+    strongly, while an alternative the exam has all but excluded weighs little (judgement)."""
     code, classes = management_class(at)
+    # a candidate predicting every examined item normal is, for this exam, the normal cord: it counts as no lesion
+    examined = [at.item_index[k] for k in f.items if k in at.item_index]
+    if examined and (5, 2, -1) in classes:
+        silent = ~(np.asarray(at.abnormal)[examined] > 0).any(axis=0)
+        code = np.where(silent, classes.index((5, 2, -1)), code)
     mass_all = np.bincount(code, weights=post, minlength=len(classes))
     score = np.log(np.maximum(post, 1e-300))
     ranked = [int(c) for c in np.argsort(-mass_all, kind="stable") if mass_all[c] > ALIVE][:1 + ALTERNATIVES]
@@ -215,7 +223,8 @@ def suggest(f: Findings, at, post: np.ndarray, order: np.ndarray, n: int = 5) ->
         pools.append(best)
         inv.append(np.full(len(best), j))
     pool, inv = np.concatenate(pools), np.concatenate(inv)
-    mass = np.full(len(ranked), 1.0 / len(ranked))  # the options weigh alike (see above)
+    mass = mass_all[ranked] ** (1.0 / TEMPER)  # the options weigh nearly alike (see above)
+    mass = mass / mass.sum()
     within = post[pool] / np.bincount(inv, weights=post[pool])[inv]  # each candidate's share of its class
     onehot = np.zeros((len(pool), len(ranked)))
     onehot[np.arange(len(pool)), inv] = within * mass[inv]  # (pool, classes): each candidate's weight in its class
@@ -273,6 +282,11 @@ def _meaning(key, joint: np.ndarray, classes: list) -> tuple[tuple[tuple[str, st
             part.append(max(marg, key=marg.get))
         parts.append(part)
     moved = [f for f in range(3) if len({p[f] for p in parts}) > 1 and all(p[f] >= 0 for p in parts)]
+    for i, (v, p) in enumerate(zip(order, parts)):  # the class an answer points to: its parts as said
+        fits = [c for c in range(len(classes)) if all(classes[c][f] == p[f] for f in moved)]
+        if fits:
+            post = joint[v] / pv[v]
+            best[i] = max(fits, key=lambda c: post[c])
 
     def words(part, c) -> str:
         if not moved:

@@ -31,7 +31,7 @@ _ROOT = ((0.25, "mild, partial"), (0.5, "partial"), (0.8, "severe, partial"), (1
 _SIDE_DEPTH = ((0.12, "shallow, the roots only"), (0.2, "shallow"), (0.36, "moderately deep"),
                (0.46, "deep"), (0.5, "deep, reaching the midline"))
 _FRONT_BACK_DEPTH = ((0.2, "shallow"), (0.45, "moderately deep"), (0.55, "deep, to the middle of the cord"),
-                     (0.75, "very deep, most of the cord's depth"))
+                     (0.75, "very deep, through most of the cord"))
 _CENTRAL_SIZE = ((0.22, "small, around the central canal"), (0.35, "medium, the central gray matter"),
                  (0.55, "large, gray matter and inner white matter"), (0.9, "very large, most of the cross-section"))
 _NEUROPATHY = ((0.0, ""), (0.4, "with a mild neuropathy of the feet"), (0.7, "with a neuropathy to the mid-shins"),
