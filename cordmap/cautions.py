@@ -20,7 +20,9 @@ The rules, each with where it comes from (check values: /work/shared/reference/c
   rest (from memory; judgement). Acute complete: the acute phase with a candidate predicting no sacral sparing,
   or the entered exam classified AIS A with its neurological level at C8 or above.
 * cauda equina and conus syndromes: surgical emergencies needing urgent lumbosacral imaging (check values
-  section 8: common clinical practice, no source).
+  section 8: common clinical practice, no source). A syndrome: a cauda equina or conus lesion predicted to take
+  the saddle or the sphincters (S3, S4-5 sensation, anal contraction or pressure, the bladder, the
+  bulbocavernosus reflex); one that mimics a single S1 root does not raise it.
 * acute myelopathy: extensor plantars, retention or a sensory level entered, the acute phase, or a leading cord
   compression; weakness counts when cord lesions other than a motor neuron or anterior horn disease carry most of
   the probability (common clinical practice, no source).
@@ -56,7 +58,9 @@ THIS_DYSREFLEXIA = ("Risk of autonomic dysreflexia: a cord lesion at or above T6
 # predict a near-normal exam (a thoracic anterior-horn lesion, say) must not raise a breathing caution for a
 # lumbar radiculopathy. Judgement, checked in tests/test_cautions.py.
 CAUTION_EXPLAINS = 0.9
-CAUTION_MASS = 0.05  # share of the explaining posterior that raises a caution
+CAUTION_MASS = 0.1  # share of the explaining posterior that raises a caution (one in ten; judgement: a radiculopathy
+# whose exam leaves the legs unexamined keeps a tail of small cord compressions at its level, a few per cent in all,
+# which must not call a root lesion a dysreflexia risk)
 
 OUTSIDE = ("root", "cauda_equina", "polyneuropathy", "normal")  # not the cord
 CORD_COMPRESSION = ("lateral_compression", "anterior_compression", "posterior_compression")
@@ -98,7 +102,7 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     if (w[np.isin(pat, CORD_COMPRESSION)].sum() > 0.1 or f.phase == "acute" or extensor
             or (_myelopathy_signs(f) and sacral <= 0.5) or (weak and in_cord > 0.5)):
         out.append(THIS_MYELOPATHY)
-    if sacral > CAUTION_MASS:
+    if w[np.isin(pat, SACRAL) & _saddle(at)].sum() > CAUTION_MASS:
         out.append(THIS_CAUDA_EQUINA)
     k = at.item_index[("sign", "diaphragm", "")]
     weak_diaphragm = at.likely[k] == item_values(("sign", "diaphragm", "")).index("weak")
@@ -134,6 +138,26 @@ def _below_t6_abnormal(at):
                                             "bladder"))]
     out = (np.asarray(at.abnormal)[rows] > 0).any(axis=0)
     _BELOW[id(at)] = (at, out)
+    return out
+
+
+_SADDLE: dict[int, tuple] = {}
+
+
+def _saddle(at):
+    """(n,) bool: the candidate predicts an abnormal saddle or sphincter finding (S3 or S4-5 sensation, anal
+    contraction or pressure, bladder, bulbocavernosus reflex). Built once per atlas."""
+    import numpy as np
+
+    hit = _SADDLE.get(id(at))
+    if hit is not None and hit[0] is at:
+        return hit[1]
+    rows = [i for i, k in enumerate(at.items)
+            if (k[0] == "sensory" and k[3] in ("S3", "S4-5"))
+            or (k[0] == "sign" and k[1] in ("voluntary_anal_contraction", "deep_anal_pressure", "bulbocavernosus",
+                                            "bladder"))]
+    out = (np.asarray(at.abnormal)[rows] > 0).any(axis=0)
+    _SADDLE[id(at)] = (at, out)
     return out
 
 
