@@ -322,7 +322,7 @@ class ExamApp:
         self.tabs = W.Tab(children=[self._build_sensation(), self._build_power(), self._build_sacral()],
                           titles=("Sensation ribbons", "Power & reflexes", "Sacral & autonomic"))
         self.tabs.add_class("cm-tabs")
-        nt_head = W.HTML("Worth examining next")
+        nt_head = self.nt_head = W.HTML("Worth examining next")
         nt_head.add_class("cm-heading")
         self.next_buttons = []
         for i in range(N_NEXT):
@@ -645,6 +645,9 @@ class ExamApp:
                 b.layout.display = None
             else:
                 b.layout.display = "none"
+        none = not tests and r.fit in ("good", "poor")
+        self.nt_head.value = ("Worth examining next: no bedside test left would change what is done; imaging tells "
+                              "the remaining hypotheses apart" if none else "Worth examining next")
         self._render_selected()
 
     def _render_selected(self) -> None:
