@@ -6,6 +6,7 @@ import numpy as np
 from . import atlas as atlas_mod
 from .anatomy import anatomy
 from .hypotheses import _abnormal, _derived
+from .lesions import NORMAL, PATTERNS
 
 # Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
 # findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
@@ -86,17 +87,13 @@ def separate(at, i: int) -> np.ndarray:
     return ok
 
 
-# The lesions that come in separate pairs at the bedside: radiculopathies and compressions of the cord or the cauda
-# equina, from the degenerative spine (a cervical myelopathy with a lumbar root or cauda equina lesion: tandem
-# stenosis; two radiculopathies) or from metastases at two levels (common clinical practice, no source). Intrinsic
-# cord syndromes, degenerations and a polyneuropathy are not paired: a second "lesion" of those kinds mostly
-# patches a single lesion's misfit (measured on tests/vignettes: such pairs were the false alarms). Multifocal
-# inflammation (multiple sclerosis) is the exception this leaves out.
-PAIRABLE = ("root", "cauda_equina", "lateral_compression", "anterior_compression", "posterior_compression")
-# Of those, the pairs: a cord compression with a root-level lesion (a cervical myelopathy with a lumbar root or
-# cauda equina lesion; a cord compression with a radiculopathy), or two root-level lesions. Two compressions of the
-# cord at two levels (multilevel metastases) are left to imaging: on the corpus such pairs were all one lesion's
-# misfit patched (a meningioma's false level, motor neuron disease read as two compressions).
+# The lesions that come in separate pairs at the bedside: a cord lesion with a root or cauda equina lesion (a
+# cervical myelopathy with a lumbar root or cauda equina lesion: tandem stenosis; a cord lesion with a
+# radiculopathy), or two root-level lesions (two radiculopathies); common clinical practice, no source. Two cord
+# lesions at two levels (multilevel metastases, multifocal inflammation) are left to imaging: on the corpus such
+# pairs were one lesion's misfit patched (a meningioma's false level, motor neuron disease read as two
+# compressions). Degenerations and a polyneuropathy are never half of a pair: they already span the cord or limbs.
+PAIRABLE = tuple(p.id for p in PATTERNS.values() if not p.diffuse and p.id not in ("polyneuropathy", NORMAL))
 ROOT_LEVEL = ("root", "cauda_equina")
 
 

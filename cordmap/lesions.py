@@ -412,7 +412,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             atlas_tops=CORD_TOPS),
     Pattern("anterior", "the anterior spinal artery territory: ventral two-thirds, dorsal columns spared",
             ("both",), _anterior,
-            (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
+            (Param("reach", 0.45, (0.2, 0.45, 0.6), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
              _INCOMPLETE), atlas_tops=CORD_TOPS),
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
             ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),),
