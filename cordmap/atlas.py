@@ -14,6 +14,7 @@ from __future__ import annotations
 import hashlib
 import itertools
 from dataclasses import dataclass
+from functools import cache
 from importlib import resources
 from pathlib import Path
 
@@ -146,8 +147,10 @@ def enumerate_candidates(vs: tuple[Variant, ...]) -> tuple[np.ndarray, np.ndarra
     return np.array(var, np.int32), np.array(top, np.int16), np.array(bottom, np.int16)
 
 
+@cache
 def model_version() -> str:
-    """A hash of the anatomy tables and the model's code: the disk cache key."""
+    """A hash of the anatomy tables and the model's code: the disk cache key (computed once per process, so it
+    names the code this process runs even if the files change under it)."""
     h = hashlib.sha256()
     for name in sorted(p.name for p in resources.files("cordmap.data").iterdir() if p.name.endswith(".csv")):
         h.update(resources.files("cordmap.data").joinpath(name).read_bytes())

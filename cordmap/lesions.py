@@ -152,7 +152,16 @@ def _hemisection(sec, xs, side, p):
 
 def _central(sec, xs, side, p):
     r = p["size"]
-    return _cord(sec) & ((sec.x / (1.25 * r)) ** 2 + ((sec.y + 0.07) / (0.9 * r)) ** 2 <= 1)
+    core = _cord(sec) & ((sec.x / (1.25 * r)) ** 2 + ((sec.y + 0.07) / (0.9 * r)) ** 2 <= 1)
+    # The lateral columns beside a central lesion: the traumatic central cord syndrome damages the lateral
+    # corticospinal tracts' white matter as well as the centre (Quencer et al., Neuroradiology 1992, MRI and
+    # pathology of acute central cord syndrome; from memory), and an expanding syrinx or tumour stretches them: a
+    # share `columns` of the lateral corticospinal tracts is lost evenly, so the legs are weak and spastic, less
+    # than the arms.
+    columns = p.get("columns", 0.0)
+    if columns > 0:
+        core = core | _thin(sec, sec.structure == S["lateral_corticospinal"], columns)
+    return core
 
 
 def _anterior(sec, xs, side, p):
@@ -397,11 +406,13 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("central", "around the central canal, growing outward with size (syrinx, central cord injury)",
             ("both",), _central,
             (Param("size", 0.3, (0.15, 0.22, 0.3, 0.4, 0.5, 0.6, 0.7), 0.05, 0.9,
-                   "radius of the damaged zone as a fraction of the cord's radius"), _INCOMPLETE),
+                   "radius of the damaged zone as a fraction of the cord's radius"), _INCOMPLETE,
+             Param("columns", 0.0, (0.0, 0.35), 0.0, 1.0,
+                   "share of the lateral corticospinal tracts lost beside the centre (legs weak and spastic)")),
             atlas_tops=CORD_TOPS),
     Pattern("anterior", "the anterior spinal artery territory: ventral two-thirds, dorsal columns spared",
             ("both",), _anterior,
-            (Param("reach", 0.45, (0.2, 0.45), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
+            (Param("reach", 0.45, (0.2, 0.45, 0.6), -0.3, 0.6, "dorsal edge of the infarct (normalised height)"),
              _INCOMPLETE), atlas_tops=CORD_TOPS),
     Pattern("posterior", "both dorsal columns, optionally the dorsal horns and entry zones (tabes, posterior infarct)",
             ("both",), _posterior, (Param("horns", 0.0, (0.0, 1.0), 0.0, 1.0, "1 = dorsal horns included"),),
