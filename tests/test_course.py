@@ -370,3 +370,14 @@ def test_cohort_conversion_rates_and_curves():
     assert list(lems["mean"]) == pytest.approx([(20 + 20 + 40) / 3, 40])  # LEMS 20 at "22222", 40 at "44444"
     with pytest.raises(CordmapError, match="no course could be read"):
         cordmap.course_cohort([{"format": "nope"}])
+
+
+def test_course_picture_carries_caution_and_alarms():
+    from cordmap.course_plot import course_png, draw_course
+
+    fig = draw_course(demo())
+    texts = [t.get_text() for t in fig.texts]
+    assert C.DECISION_SUPPORT in texts
+    assert any(t.startswith("Alarms (urgent): 1 at 6 h: level up") for t in texts)
+    png = course_png(Course([(0, level_exam("T10")), (6, level_exam("T10"))]), size=(640, 480))
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
