@@ -31,12 +31,12 @@ from .findings import Findings, item_label
 # Thresholds and their sources.
 ASCENT_SEGMENTS = 2  # the issue's rule; a one-segment shift is within the level's charting noise (from memory:
 # dermatome boundaries overlap by about a segment, and examiners' levels differ by one level often)
-ASCENT_SOURCE = ("level shift of 2 or more segments: common clinical practice, no source (a climbing sensory level "
-                 "is the classic sign of an expanding extramedullary compression: Guttmann, Spinal Cord Injuries, "
-                 "as cited in shared/reference/clinical-check-values.md section 5)")
+ASCENT_SOURCE = ("a shift of 2 or more segments: common clinical practice, no source; a level rising from the feet "
+                 "toward the lesion as the sign of an expanding extramedullary compression: Guttmann, Spinal Cord "
+                 "Injuries: Comprehensive Management and Research (p. 263)")
 BREATHING_LEVEL = "C5"  # the diaphragm is C3-C5 (clinical-check-values.md section 6: BR16 Breathe 2016; phrenic CP)
-BREATHING_SOURCE = ("diaphragm C3-C5; C1-C3 usually ventilator-dependent, C3-C4 impaired diaphragm, C5 usually "
-                    "independent (Breathe (ERS) 2016, Table 2, via clinical-check-values.md section 6)")
+BREATHING_SOURCE = ("diaphragm C3-C5; C1-C3 usually ventilator-dependent, C3-C4 diaphragm impaired, C5 usually "
+                    "independent: Breathe (ERS) 2016, Table 2")
 COMPLETE_SOURCE = ("complete = no sacral sparing (no S4-5 light touch or pinprick, no deep anal pressure, no voluntary "
                    "anal contraction): ISNCSCI 2019 revision, Rupp et al., Top Spinal Cord Inj Rehabil 2021")
 GRADE_SOURCE = "a worse AIS grade between exams: common clinical practice, no source"

@@ -64,7 +64,7 @@ def draw_course(course, fig=None, size: tuple[int, int] = (960, 680), dpi: int =
     mids = (x[:-1] + x[1:]) / 2
     edges = np.concatenate([[x[0] - 0.06 * span], mids, [x[-1] + 0.06 * span]])
 
-    title = c.label or "course"
+    title = c.label or "(no label)"
     fig.text(0.015, 0.975, f"Course: {title[:110]}", ha="left", va="top", fontsize=10.5, family=FONT, color=INK,
              weight="bold")
     ax_l = fig.add_axes((0.075, 0.50, 0.74, 0.40))
