@@ -101,7 +101,8 @@ def draw_course(course, fig=None, size: tuple[int, int] = (960, 680), dpi: int =
     for xi, k in zip(x, report.classifications):
         ax_l.text(xi, top - 0.55, f"AIS {k.ais}", ha="center", va="bottom", fontsize=8, family=FONT, color=INK,
                   bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#999999", "lw": 0.6}, clip_on=False)
-    ax_l.legend(loc="upper left", bbox_to_anchor=(1.005, 1.0), frameon=False, prop={"family": FONT, "size": 7.5})
+    if ax_l.get_legend_handles_labels()[0]:
+        ax_l.legend(loc="upper left", bbox_to_anchor=(1.005, 1.0), frameon=False, prop={"family": FONT, "size": 7.5})
 
     # scores
     for m, (col, ls, name) in SCORE_STYLE.items():
@@ -114,7 +115,8 @@ def draw_course(course, fig=None, size: tuple[int, int] = (960, 680), dpi: int =
     ax_s.set_yticklabels(["0", "50%", "100%"], fontsize=7.5, family=FONT)
     ax_s.set_ylabel("score", fontsize=8, family=FONT)
     ax_s.grid(axis="y", color="#e6e6e6", lw=0.6)
-    ax_s.legend(loc="upper left", bbox_to_anchor=(1.005, 1.05), frameon=False, prop={"family": FONT, "size": 7.5})
+    if ax_s.get_legend_handles_labels()[0]:
+        ax_s.legend(loc="upper left", bbox_to_anchor=(1.005, 1.05), frameon=False, prop={"family": FONT, "size": 7.5})
 
     # hypotheses
     ax_h.set_ylim(0, 1)
