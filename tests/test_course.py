@@ -381,3 +381,11 @@ def test_course_picture_carries_caution_and_alarms():
     assert any(t.startswith("Alarms (urgent): 1 at 6 h: level up") for t in texts)
     png = course_png(Course([(0, level_exam("T10")), (6, level_exam("T10"))]), size=(640, 480))
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_cli_full_ranking_gives_fit_verdicts():
+    js = json.loads(_cli("--demo", "--json", "--full").stdout)
+    assert all(e["lead"]["fit"] in ("good", "poor", "normal") for e in js["exams"])
+    fast = json.loads(_cli("--demo", "--json").stdout)
+    # the same leaders either way (the fast path lists the leader as rank() does)
+    assert [e["lead"]["describe"] for e in js["exams"]] == [e["lead"]["describe"] for e in fast["exams"]]
