@@ -264,6 +264,9 @@ def build_parser() -> argparse.ArgumentParser:
     s.add_argument("file")
     s.add_argument("--json", action="store_true")
     s.set_defaults(func=cmd_classify)
+    from .course_cli import add_command as add_course
+
+    add_course(sub)
     s = sub.add_parser("serve", help="start the dashboard on 127.0.0.1 and print its address")
     s.add_argument("--port", type=int, default=None)
     s.add_argument("--findings", default=None)

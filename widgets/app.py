@@ -340,7 +340,10 @@ class ExamApp:
         body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", justify_content="space-between",
                                                      width="1330px"))
         style = W.HTML(CSS, layout=W.Layout(display="none"))
-        self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.log])
+        from .course_panel import CoursePanel  # serial exams of the open patient
+
+        self.course_panel = CoursePanel(lambda: self.findings)
+        self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.course_panel.widget, self.log])
         self.widget.add_class("cm-app")
 
     def _build_sensation(self) -> W.Widget:
