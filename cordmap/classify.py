@@ -120,6 +120,7 @@ class Classification:
                        "light_touch": self.light_touch.to_dict(), "pinprick": self.pinprick.to_dict()},
             "not_determinable": dict(self.reasons),
             "notes": list(self.notes),
+            "caution": CAUTION,
         }
 
     def to_json(self, indent: int | None = 2) -> str:

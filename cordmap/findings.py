@@ -27,6 +27,8 @@ from .errors import CordmapError, bad_value, shown
 from .files import MAX_FINDINGS_BYTES, read_bounded
 
 FORMAT = "cordmap-findings/1"
+# "caution": the clinical caution a document written by cordmap (simulate) carries; read and ignored
+DOCUMENT_KEYS = ("format", "label", "phase", "sensory", "motor", "reflexes", "signs", "caution")
 PHASES = ("chronic", "acute")
 SENSORY_GRADES = {"absent": 0, "impaired": 1, "normal": 2}
 SENSORY_NAMES = {v: k for k, v in SENSORY_GRADES.items()}
@@ -227,7 +229,10 @@ def parse(doc) -> Findings:
     fmt = doc.get("format")
     if fmt != FORMAT:
         raise CordmapError(f"format: {shown(fmt)} is not a findings format this version reads; expected {FORMAT!r}")
-    _known(doc, ("format", "label", "phase", "sensory", "motor", "reflexes", "signs"), "", "key")
+    _known(doc, DOCUMENT_KEYS, "", "key")
+    caution = doc.get("caution", "")
+    if not isinstance(caution, str):  # written by cordmap's outputs (simulate); read and ignored
+        raise CordmapError(f"caution: expected text, got {shown(caution, 40)}")
     label = doc.get("label", "")
     if not isinstance(label, str):
         raise CordmapError(f"label: expected text, got {shown(label, 40)}")
