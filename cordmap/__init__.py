@@ -3,6 +3,7 @@
 Decision support, not a diagnosis. Acute myelopathy is an emergency; local protocols and licensed clinicians decide.
 """
 from .classify import Classification, classify
+from .demo import case as demo_case
 from .errors import CordmapError
 from .findings import Findings
 from .findings import parse as load_findings
@@ -12,5 +13,5 @@ from .rank import Ranking, rank
 from .simulate import simulate
 
 __all__ = ["Classification", "CordmapError", "Findings", "Lesion", "PATTERNS", "Ranking", "classify",
-           "load_findings", "rank", "section", "simulate"]
+           "demo_case", "load_findings", "rank", "section", "simulate"]
 __version__ = "0.1.0"

@@ -109,10 +109,23 @@ class Findings:
     def __hash__(self):
         return hash((self.label, self.phase, tuple(sorted(self.items.items(), key=repr))))
 
+    def __repr__(self) -> str:
+        from .views import findings_repr
+
+        return findings_repr(self)
+
+    def _repr_html_(self) -> str:
+        """A compact table for notebooks: what was entered, the abnormal findings, the caution."""
+        from .views import findings_html
+
+        return findings_html(self)
+
     def get(self, key: tuple, default=None):
+        """The value recorded for one item key (see the module doc), or `default` when it was not examined."""
         return self.items.get(key, default)
 
     def replace(self, updates: Mapping[tuple, object] = (), remove=(), **kw) -> "Findings":
+        """A new `Findings` with items updated or removed (and `label` / `phase` changed when given)."""
         items = dict(self.items)
         items.update(dict(updates))
         for k in remove:
@@ -120,12 +133,15 @@ class Findings:
         return Findings(items, kw.get("label", self.label), kw.get("phase", self.phase))
 
     def to_dict(self) -> dict:
+        """The findings document (format cordmap-findings/1) as a dict."""
         return to_document(self)
 
     def to_json(self, indent: int | None = 2) -> str:
+        """The findings document as JSON text."""
         return json.dumps(to_document(self), indent=indent)
 
     def tidy(self) -> pd.DataFrame:
+        """One row per entered item: columns exam, name, side, segment, value (what `from_tidy` reads)."""
         rows = []
         for key, value in self.items.items():
             kind = key[0]
