@@ -139,40 +139,6 @@ def cmd_classify(args):
     print(c.to_json() if args.json else main_text(c))
 
 
-# fit: "empty" (nothing entered), "normal" (no lesion explains the findings better than a normal cord) or
-# "lesion"; the two-lesion check ("poor") is made by `cordmap rank` only (it costs a pair search per case).
-BATCH_FIELDS = ["case_id", "status", "fit", "pattern", "side", "top", "bottom", "params", "probability",
-                "vertebral_levels", "same_exam", "second", "second_probability", "error"]
-
-
-def _rank_cases(good: list, progress=None) -> dict[int, dict]:
-    """Rank many cases with one matrix product per chunk: {index in `good`: result row} (as rank() shows them)."""
-    from . import atlas as atlas_mod
-    from .lesions import NORMAL
-    from .rank import batch_leaders, batch_scores
-
-    out: dict[int, dict] = {}
-    for phase in ("chronic", "acute"):
-        sel = [i for i, f in enumerate(good) if f.phase == phase]
-        if not sel:
-            continue
-        at = atlas_mod.get(phase)
-        for start in range(0, len(sel), 256):
-            chunk = sel[start:start + 256]
-            scores = batch_scores([good[i] for i in chunk], at)
-            for row, i in zip(scores, chunk):
-                (les, p1, levels, same), (les2, p2, _, _) = batch_leaders(at, row, 2)  # as rank() lists them
-                fit = "empty" if not good[i].items else "normal" if les.pattern == NORMAL else "lesion"
-                out[i] = {"status": "ok", "fit": fit, "pattern": les.pattern, "side": les.side,
-                          "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
-                          "probability": round(p1, 4), "vertebral_levels": " ".join(levels),
-                          "same_exam": "; ".join(o.describe() for o in same), "second": les2.describe(),
-                          "second_probability": round(p2, 4), "error": ""}
-            if progress:
-                progress(phase, min(start + 256, len(sel)), len(sel))
-    return out
-
-
 def _progress(phase: str, done: int, total: int) -> None:
     """One progress line on stderr, redrawn in place (only called when stderr is a terminal)."""
     bar = "#" * int(30 * done / total)
@@ -194,32 +160,25 @@ def cmd_batch(args):
     exist unless --force) and written through a temporary file renamed into place."""
     from .cohort import read_cases
     from .files import check_output, write_atomic
+    from .many import BATCH_FIELDS, rank_cases
 
     out = check_output(args.output, force=args.force, inputs=[args.file])
     cases = list(read_cases(args.file))
-    good = [c.findings for c in cases if c.ok]
     for c in cases:
         if not c.ok and not args.quiet:
             print(f"case {c.case_id}: error: {c.error}", file=sys.stderr)
     t0 = time.perf_counter()
-    results = _rank_cases(good, None if args.quiet or not _stderr_is_terminal() else _progress)
-    by_case: list[dict] = []
-    k = 0
-    for c in cases:
-        if c.ok:
-            by_case.append({"case_id": c.case_id, **results[k]})
-            k += 1
-        else:
-            by_case.append({"case_id": c.case_id, "status": "error", "error": c.error})
+    by_case = rank_cases(cases, None if args.quiet or not _stderr_is_terminal() else _progress)
     buf = io.StringIO(newline="")
     wr = csv.DictWriter(buf, fieldnames=BATCH_FIELDS, lineterminator="\n")
     wr.writeheader()
     wr.writerows(by_case)
     write_atomic(out, buf.getvalue().encode("utf-8"), force=args.force)
     dt = time.perf_counter() - t0
-    failed = len(cases) - len(good)
+    failed = sum(not c.ok for c in cases)
+    good = len(cases) - failed
     if not args.quiet:
-        print(f"{len(cases)} cases: {len(good)} ranked, {failed} failed, in {dt:.2f} s -> {out}", file=sys.stderr)
+        print(f"{len(cases)} cases: {good} ranked, {failed} failed, in {dt:.2f} s -> {out}", file=sys.stderr)
         print(C.BANNER, file=sys.stderr)
     return 2 if failed else 0
 
