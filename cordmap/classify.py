@@ -532,7 +532,7 @@ def rows(c: Classification) -> list[tuple[str, str]]:
         ("Zone of partial preservation, sensory", sided(c.zpp_sensory)),
         ("Zone of partial preservation, motor", sided(c.zpp_motor)),
         *((title, _score_words(s)) for title, s in (
-            ("Upper extremity motor score", c.uems), ("Lower extremity motor score", c.lems),
+            ("Upper-extremity motor score", c.uems), ("Lower-extremity motor score", c.lems),
             ("Light touch score", c.light_touch), ("Pinprick score", c.pinprick))),
     ]
 
