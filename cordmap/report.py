@@ -34,6 +34,7 @@ class Line:
     kind: str
     text: str = ""
     indent: int = 0
+    keep: int = 0  # lines with the same non-zero number stay on one page (a hypothesis' block), where they fit
 
 
 def report_format(path) -> str:
@@ -83,15 +84,15 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
     for h in ranking.hypotheses[:top]:
         levels = ", ".join(h.vertebral_levels) or "none (no lesion)"
         lines += [Line("gap"), Line("text", f"{h.rank}. {h.lesion.describe()}: probability {h.probability:.1%}; "
-                                            f"vertebrae to image: {levels}")]
+                                            f"vertebrae to image: {levels}", keep=h.rank)]
         if h.variants:
             lines.append(Line("text", "or, with the same bedside picture (imaging tells which): "
-                                      + "; ".join(v.describe() for v in h.variants), 1))
+                                      + "; ".join(v.describe() for v in h.variants), 1, h.rank))
         if h.same_exam:
             lines.append(Line("text", f"the same predicted exam as: {h.same_exam_text()} (no bedside test "
-                                      "separates them; imaging does)", 1))
-        lines.append(Line("text", "explains: " + ("; ".join(h.explains) or "no abnormal finding"), 1))
-        lines.append(Line("text", "conflicts: " + ("; ".join(h.conflicts) or "none"), 1))
+                                      "separates them; imaging does)", 1, h.rank))
+        lines.append(Line("text", "explains: " + ("; ".join(h.explains) or "no abnormal finding"), 1, h.rank))
+        lines.append(Line("text", "conflicts: " + ("; ".join(h.conflicts) or "none"), 1, h.rank))
     if len(ranking.hypotheses) > top:
         lines.append(Line("text", f"({len(ranking.hypotheses) - top} less likely hypotheses not listed)"))
     if ranking.next_tests:
@@ -137,33 +138,51 @@ def report_text(findings, ranking, top: int = 5) -> str:
 
 # ------------------------------------------------------------------ pages
 
-def _wrapped(lines: list[Line]) -> list[tuple[str, str, int]]:
-    """(kind, text, indent) per printed line: body text wrapped to the page, nothing cut."""
+def _wrapped(lines: list[Line]) -> list[tuple[str, str, int, int]]:
+    """(kind, text, indent, keep) per printed line: body text wrapped to the page, nothing cut. A heading keeps
+    with the line after it."""
     out = []
-    for ln in lines:
-        if ln.kind in ("title", "head", "gap", "pictures"):
-            out.append((ln.kind, ln.text, 0))
+    for n, ln in enumerate(lines):
+        keep = ln.keep or -(n + 1)  # a line of its own: a group of one (negative, never equal to a hypothesis')
+        if ln.kind == "head":
+            out.append((ln.kind, ln.text, 0, -(n + 2)))  # with the next line
+            continue
+        if ln.kind in ("title", "gap", "pictures"):
+            out.append((ln.kind, ln.text, 0, keep))
             continue
         width = PAGE_WIDTH - 3 * ln.indent - 2
         for i, part in enumerate(textwrap.wrap(ln.text, width, break_long_words=False, break_on_hyphens=False)):
             bullet = "• " if ln.kind == "item" and i == 0 else "  " if ln.kind == "item" else ""
-            out.append(("text", bullet + part, ln.indent + (1 if i and ln.kind == "text" else 0)))
+            out.append(("text", bullet + part, ln.indent + (1 if i and ln.kind == "text" else 0), keep))
     return out
 
 
 def _paginate(printed) -> list[list]:
+    """Rows onto pages; a group of rows (one `keep` number, in a run) moves whole to the next page when it does not
+    fit and would fit on an empty one."""
     top_band, foot_band = 0.95, 0.75  # inches: the caution bands
     room = PAGE[1] - 2 * MARGIN - top_band - foot_band
-    pages, cur, used = [], [], 0.0
+    groups: list[list] = []
     for row in printed:
-        h = LINE[row[0]] if row[0] in LINE else LINE["text"]
-        if used + h > room and cur:
+        if groups and groups[-1][-1][3] == row[3]:
+            groups[-1].append(row)
+        else:
+            groups.append([row])
+    pages, cur, used = [], [], 0.0
+    for group in groups:
+        gh = sum(LINE.get(r[0], LINE["text"]) for r in group)
+        if cur and used + gh > room and gh <= room:
             pages.append(cur)
             cur, used = [], 0.0
-            if row[0] == "gap":
+        for row in group:
+            h = LINE.get(row[0], LINE["text"])
+            if used + h > room and cur:
+                pages.append(cur)
+                cur, used = [], 0.0
+            if not cur and row[0] == "gap":
                 continue
-        cur.append(row)
-        used += h
+            cur.append(row)
+            used += h
     pages.append(cur)
     return pages
 
@@ -211,7 +230,7 @@ def report_figures(findings, ranking, top: int = 5, selected: int = 0) -> list:
         fig = Figure(figsize=PAGE, facecolor="white")
         _caution_bands(fig, p, len(pages))
         y = H - MARGIN - 0.95
-        for kind, text, indent in rows_:
+        for kind, text, indent, _ in rows_:
             h_in = LINE.get(kind, LINE["text"])
             x = (MARGIN + 0.22 * indent) / W
             if kind == "pictures":
