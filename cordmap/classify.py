@@ -93,6 +93,10 @@ class Score:
 
 @dataclass(frozen=True)
 class Classification:
+    """The ISNCSCI classification of one exam (2019 rules): levels per side, neurological level, completeness,
+    impairment grade (AIS), zones of partial preservation and scores; "ND" where the exam leaves a value open
+    (`reasons` says why) and "NA" where a zone does not apply. Evaluate it in a notebook for a table."""
+
     sensory_level: Sided
     motor_level: Sided
     neurological_level: str
@@ -107,7 +111,19 @@ class Classification:
     reasons: tuple[tuple[str, str], ...] = ()  # (field, why it is "ND")
     notes: tuple[str, ...] = ()
 
+    def __repr__(self) -> str:
+        from .views import classification_repr
+
+        return classification_repr(self)
+
+    def _repr_html_(self) -> str:
+        """A compact table for notebooks, in words, with the caution."""
+        from .views import classification_html
+
+        return classification_html(self)
+
     def to_dict(self) -> dict:
+        """The classification document (format cordmap-classification/1) as a dict, with its caution."""
         return {
             "format": FORMAT,
             "sensory_level": self.sensory_level.to_dict(),
@@ -120,9 +136,11 @@ class Classification:
                        "light_touch": self.light_touch.to_dict(), "pinprick": self.pinprick.to_dict()},
             "not_determinable": dict(self.reasons),
             "notes": list(self.notes),
+            "caution": CAUTION,
         }
 
     def to_json(self, indent: int | None = 2) -> str:
+        """The classification document as JSON text."""
         return json.dumps(self.to_dict(), indent=indent)
 
 
@@ -496,34 +514,47 @@ def classify(findings, non_key: Mapping[str, str | None] | None = None) -> Class
 
 # ---------------------------------------------------------------- text
 
-def _score_line(title: str, s: Score) -> str:
-    return f"{title}: left {s.left}, right {s.right}, total {s.total} (of {2 * s.maximum_per_side})"
+def rows(c: Classification) -> list[tuple[str, str]]:
+    """The classification in words, (what, value) pairs in reading order: what the text, the report and the
+    notebook views show (no raw field names, no raw True/False)."""
+    complete = {True: "yes (no sacral sparing)", False: "no (sacral sparing present)"}.get(
+        c.complete, "not determinable (ND)")
+
+    def sided(v: Sided) -> str:
+        return f"left {_value_words(v.left)}, right {_value_words(v.right)}"
+
+    return [
+        ("Impairment grade (AIS)", _value_words(c.ais)),
+        ("Neurological level of injury", _value_words(c.neurological_level)),
+        ("Complete", complete),
+        ("Sensory level", sided(c.sensory_level)),
+        ("Motor level", sided(c.motor_level)),
+        ("Zone of partial preservation, sensory", sided(c.zpp_sensory)),
+        ("Zone of partial preservation, motor", sided(c.zpp_motor)),
+        *((title, _score_words(s)) for title, s in (
+            ("Upper-extremity motor score", c.uems), ("Lower-extremity motor score", c.lems),
+            ("Light touch score", c.light_touch), ("Pinprick score", c.pinprick))),
+    ]
+
+
+def _value_words(v) -> str:
+    return {ND: "not determinable (ND)", NA: "does not apply (NA)"}.get(v, str(v))
+
+
+def _score_words(s: Score) -> str:
+    return f"left {s.left}, right {s.right}, total {s.total} (of {2 * s.maximum_per_side})"
 
 
 def main_text(c: Classification) -> str:
     """Readable plain text of one classification, ending with the clinical caution."""
-    complete = {True: "yes (no sacral sparing)", False: "no (sacral sparing present)"}.get(c.complete, ND)
-    lines = [
-        "Classification by the ISNCSCI 2019 rules",
-        f"Impairment grade (AIS): {c.ais}",
-        f"Neurological level of injury: {c.neurological_level}",
-        f"Complete: {complete}",
-        f"Sensory level: left {c.sensory_level.left}, right {c.sensory_level.right}",
-        f"Motor level: left {c.motor_level.left}, right {c.motor_level.right}",
-        f"Zone of partial preservation, sensory: left {c.zpp_sensory.left}, right {c.zpp_sensory.right}",
-        f"Zone of partial preservation, motor: left {c.zpp_motor.left}, right {c.zpp_motor.right}",
-        _score_line("Upper extremity motor score", c.uems),
-        _score_line("Lower extremity motor score", c.lems),
-        _score_line("Light touch", c.light_touch),
-        _score_line("Pinprick", c.pinprick),
-    ]
+    lines = ["Classification by the ISNCSCI 2019 rules", *(f"{what}: {value}" for what, value in rows(c))]
     if c.reasons:
         lines.append("Not determinable (ND):")
-        lines += [f"  {field}: {why}" for field, why in c.reasons]
+        from .views import field_words
+
+        lines += [f"  {field_words(field)}: {why}" for field, why in c.reasons]
     if c.notes:
         lines.append("Notes:")
         lines += [f"  {n}" for n in c.notes]
-    if NA in (c.zpp_sensory.left, c.zpp_sensory.right, c.zpp_motor.left, c.zpp_motor.right):
-        lines.append("NA: the zone of partial preservation does not apply.")
     lines.append(CAUTION)
     return "\n".join(lines)

@@ -120,11 +120,13 @@ def cmd_patterns(args):
 
 
 def cmd_simulate(args):
+    """The predicted findings as a findings document (JSON alone on stdout) carrying the caution: the reader
+    accepts the `caution` field and ignores it, so the output can be ranked as it is."""
     from .simulate import simulate
 
-    f = simulate(_lesion(args, args.pattern))
-    print(f.to_json())
-    print(C.BANNER, file=sys.stderr)
+    doc = simulate(_lesion(args, args.pattern)).to_dict()
+    doc["caution"] = C.BANNER
+    print(json.dumps(doc, indent=2))
 
 
 def cmd_section(args):
@@ -154,7 +156,8 @@ def cmd_demo(args):
     from .rank import rank
 
     f = demo.case(args.case)
-    print(f"Demo case (invented): {f.label}\n")
+    # with --json stdout holds the JSON alone (it must parse); the case line goes to stderr then
+    print(f"Demo case (invented): {f.label}\n", file=sys.stderr if args.json else sys.stdout)
     r = rank(f, top=_shown(args))
     print(r.to_json()) if args.json else _print_ranking(r)
 
@@ -167,43 +170,18 @@ def cmd_classify(args):
     print(c.to_json() if args.json else main_text(c))
 
 
-# fit: "empty" (nothing entered), "normal" (no lesion explains the findings better than a normal cord) or
-# "lesion"; the two-lesion check ("poor") is made by `cordmap rank` only (it costs a pair search per case).
-BATCH_FIELDS = ["case_id", "status", "fit", "pattern", "side", "top", "bottom", "params", "probability",
-                "vertebral_levels", "same_exam", "second", "second_probability", "error"]
-
-
-def _rank_cases(good: list, progress=None) -> dict[int, dict]:
-    """Rank many cases with one matrix product per chunk: {index in `good`: result row} (as rank() shows them)."""
-    from . import atlas as atlas_mod
-    from .lesions import NORMAL
-    from .rank import batch_leaders, batch_scores
-
-    out: dict[int, dict] = {}
-    for phase in ("chronic", "acute"):
-        sel = [i for i, f in enumerate(good) if f.phase == phase]
-        if not sel:
-            continue
-        at = atlas_mod.get(phase)
-        for start in range(0, len(sel), 256):
-            chunk = sel[start:start + 256]
-            scores = batch_scores([good[i] for i in chunk], at)
-            for row, i in zip(scores, chunk):
-                (les, p1, levels, same), (les2, p2, _, _) = batch_leaders(at, row, 2)  # as rank() lists them
-                fit = "empty" if not good[i].items else "normal" if les.pattern == NORMAL else "lesion"
-                out[i] = {"status": "ok", "fit": fit, "pattern": les.pattern, "side": les.side,
-                          "top": les.top, "bottom": les.bottom, "params": json.dumps(les.all_params()),
-                          "probability": round(p1, 4), "vertebral_levels": " ".join(levels),
-                          "same_exam": "; ".join(o.describe() for o in same), "second": les2.describe(),
-                          "second_probability": round(p2, 4), "error": ""}
-            if progress:
-                progress(phase, min(start + 256, len(sel)), len(sel))
-    return out
-
-
 def _progress(phase: str, done: int, total: int) -> None:
+    """One progress line on stderr, redrawn in place (only called when stderr is a terminal)."""
     bar = "#" * int(30 * done / total)
-    print(f"\r{phase:>7} [{bar:<30}] {done}/{total}", end="\n" if done == total else "", file=sys.stderr)
+    print(f"\r{phase:>7} [{bar:<30}] {done}/{total}", end="\n" if done == total else "", file=sys.stderr,
+          flush=True)
+
+
+def _stderr_is_terminal() -> bool:
+    try:
+        return sys.stderr.isatty()
+    except (AttributeError, ValueError):  # replaced or closed stream
+        return False
 
 
 def cmd_batch(args):
@@ -213,33 +191,38 @@ def cmd_batch(args):
     exist unless --force) and written through a temporary file renamed into place."""
     from .cohort import read_cases
     from .files import check_output, write_atomic
+    from .many import BATCH_FIELDS, rank_cases
 
     out = check_output(args.output, force=args.force, inputs=[args.file])
     cases = list(read_cases(args.file))
-    good = [c.findings for c in cases if c.ok]
     for c in cases:
-        if not c.ok:
+        if not c.ok and not args.quiet:
             print(f"case {c.case_id}: error: {c.error}", file=sys.stderr)
     t0 = time.perf_counter()
-    results = _rank_cases(good, _progress)
-    by_case: list[dict] = []
-    k = 0
-    for c in cases:
-        if c.ok:
-            by_case.append({"case_id": c.case_id, **results[k]})
-            k += 1
-        else:
-            by_case.append({"case_id": c.case_id, "status": "error", "error": c.error})
+    by_case = rank_cases(cases, None if args.quiet or not _stderr_is_terminal() else _progress)
     buf = io.StringIO(newline="")
     wr = csv.DictWriter(buf, fieldnames=BATCH_FIELDS, lineterminator="\n")
     wr.writeheader()
     wr.writerows(by_case)
     write_atomic(out, buf.getvalue().encode("utf-8"), force=args.force)
     dt = time.perf_counter() - t0
-    failed = len(cases) - len(good)
-    print(f"{len(cases)} cases: {len(good)} ranked, {failed} failed, in {dt:.2f} s -> {out}", file=sys.stderr)
-    print(C.BANNER, file=sys.stderr)
+    failed = sum(not c.ok for c in cases)
+    good = len(cases) - failed
+    if not args.quiet:
+        print(f"{len(cases)} cases: {good} ranked, {failed} failed, in {dt:.2f} s -> {out}", file=sys.stderr)
+        print(C.BANNER, file=sys.stderr)
     return 2 if failed else 0
+
+
+def cmd_report(args):
+    """The case sheet of one findings file; the output's suffix picks the format (.pdf, .png, .txt)."""
+    from .files import check_output, write_atomic
+    from .report import report_bytes, report_format
+
+    fmt = report_format(args.output)
+    out = check_output(args.output, force=args.force, inputs=[args.file])
+    write_atomic(out, report_bytes(Path(args.file), fmt, top=_shown(args)), force=args.force)
+    print(f"wrote {out}")
 
 
 def cmd_serve(args):
@@ -266,45 +249,74 @@ def _add_show_args(s, default: int) -> None:
     s.set_defaults(default_show=default)
 
 
+def _demo_epilog() -> str:
+    from . import demo
+
+    return "demo cases (all invented):\n" + "\n".join(f"  {n:<20} {lab}" for n, lab in demo.labels().items())
+
+
 def build_parser() -> argparse.ArgumentParser:
+    from . import __version__, demo
+
     p = argparse.ArgumentParser(prog="cordmap", description="Localize a spinal cord lesion from the bedside exam. "
                                 + C.BANNER)
+    p.add_argument("--version", action="version", version=f"cordmap {__version__}",
+                   help="print the version and exit")
     sub = p.add_subparsers(dest="command", required=True)
     s = sub.add_parser("patterns", help="list the lesion patterns")
     s.set_defaults(func=cmd_patterns)
-    s = sub.add_parser("simulate", help="print the findings a lesion predicts (findings format v1)")
+    s = sub.add_parser("simulate", help="print the findings a lesion predicts (findings document, JSON)")
     _add_lesion_args(s)
+    s.add_argument("--json", action="store_true",
+                   help="the findings document as JSON, with its caution (also the default: the output is a file "
+                   "`cordmap rank` reads)")
     s.set_defaults(func=cmd_simulate)
     s = sub.add_parser("section", help="draw a segment's cross-section to a PNG")
-    s.add_argument("segment")
+    s.add_argument("segment", help="cord segment to draw, e.g. C5")
     s.add_argument("--lesion", metavar="PATTERN", help="overlay a lesion of this pattern")
     _add_lesion_args(s, positional=False)
-    s.add_argument("-o", "--output", default="section.png")
+    s.add_argument("-o", "--output", default="section.png", help="PNG file to write (default section.png)")
     s.add_argument("--force", action="store_true", help="replace the output file if it exists")
     s.set_defaults(func=cmd_section)
     s = sub.add_parser("rank", help="rank lesion hypotheses for a findings file")
-    s.add_argument("file")
+    s.add_argument("file", help="findings file (format cordmap-findings/1)")
     _add_show_args(s, 10)
-    s.add_argument("--json", action="store_true")
+    s.add_argument("--json", action="store_true", help="print the ranking as JSON alone (cordmap-ranking/1)")
     s.set_defaults(func=cmd_rank)
     s = sub.add_parser("batch", help="rank a cohort (CSV with case_id, or JSONL) into a CSV")
-    s.add_argument("file")
+    s.add_argument("file", help="cohort: a tidy CSV (case_id, exam, name, side, segment, value) or a .jsonl file "
+                   "(one findings document with a case_id a line)")
     s.add_argument("-o", "--output", required=True, help="results CSV; never the input, an existing file only "
                    "with --force")
     s.add_argument("--force", action="store_true", help="replace the output file if it exists")
+    s.add_argument("-q", "--quiet", action="store_true",
+                   help="no progress line (it is shown only when stderr is a terminal) and no summary")
     s.set_defaults(func=cmd_batch)
-    s = sub.add_parser("demo", help="rank a built-in invented demo case")
-    s.add_argument("--case", default="thoracic-hemicord")
+    s = sub.add_parser("demo", help="rank a built-in invented demo case", epilog=_demo_epilog(),
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    s.add_argument("--case", default=demo.DEFAULT, metavar="NAME",
+                   help=f"demo case: {', '.join(demo.names())} (default {demo.DEFAULT})")
     _add_show_args(s, 5)
-    s.add_argument("--json", action="store_true")
+    s.add_argument("--json", action="store_true", help="print the ranking as JSON alone (cordmap-ranking/1)")
     s.set_defaults(func=cmd_demo)
     s = sub.add_parser("classify", help="ISNCSCI levels, completeness and impairment grade")
-    s.add_argument("file")
-    s.add_argument("--json", action="store_true")
+    s.add_argument("file", help="findings file (format cordmap-findings/1)")
+    s.add_argument("--json", action="store_true",
+                   help="print the classification as JSON alone (cordmap-classification/1, with its caution)")
     s.set_defaults(func=cmd_classify)
+    from .course_cli import add_command as add_course
+
+    add_course(sub)
+    s = sub.add_parser("report", help="write the case sheet of a findings file: PDF, PNG or plain text")
+    s.add_argument("file", help="findings file (format cordmap-findings/1)")
+    s.add_argument("-o", "--output", required=True,
+                   help="file to write; its suffix picks the format: .pdf (selectable text), .png or .txt")
+    s.add_argument("--force", action="store_true", help="replace the output file if it exists")
+    _add_show_args(s, 5)
+    s.set_defaults(func=cmd_report)
     s = sub.add_parser("serve", help="start the dashboard on 127.0.0.1 and print its address")
-    s.add_argument("--port", type=int, default=None)
-    s.add_argument("--findings", default=None)
+    s.add_argument("--port", type=int, default=None, help="port on 127.0.0.1 (default: a free one)")
+    s.add_argument("--findings", default=None, help="findings file to open the dashboard on (default: a demo case)")
     s.add_argument("--no-token", action="store_true",
                    help="serve without a token (only on a single-user machine: any local user could open it)")
     s.add_argument("--max-sessions", type=int, default=8, help="dashboard sessions (kernels) at once (default 8)")

@@ -51,11 +51,18 @@ DEFAULT = "thoracic-hemicord"
 
 
 def names() -> tuple[str, ...]:
+    """The demo cases' names, the default first."""
     return tuple(_CASES)
+
+
+def labels() -> dict[str, str]:
+    """{name: one line saying what the invented case shows}."""
+    return {n: d["label"] for n, d in _CASES.items()}
 
 
 @cache
 def case(name: str = DEFAULT) -> Findings:
+    """The demo case `name` as `Findings` (invented; see `labels`)."""
     from .errors import bad_value
 
     if name not in _CASES:

@@ -27,6 +27,8 @@ from .errors import CordmapError, bad_value, shown
 from .files import MAX_FINDINGS_BYTES, read_bounded
 
 FORMAT = "cordmap-findings/1"
+# "caution": the clinical caution a document written by cordmap (simulate) carries; read and ignored
+DOCUMENT_KEYS = ("format", "label", "phase", "sensory", "motor", "reflexes", "signs", "caution")
 PHASES = ("chronic", "acute")
 SENSORY_GRADES = {"absent": 0, "impaired": 1, "normal": 2}
 SENSORY_NAMES = {v: k for k, v in SENSORY_GRADES.items()}
@@ -107,10 +109,23 @@ class Findings:
     def __hash__(self):
         return hash((self.label, self.phase, tuple(sorted(self.items.items(), key=repr))))
 
+    def __repr__(self) -> str:
+        from .views import findings_repr
+
+        return findings_repr(self)
+
+    def _repr_html_(self) -> str:
+        """A compact table for notebooks: what was entered, the abnormal findings, the caution."""
+        from .views import findings_html
+
+        return findings_html(self)
+
     def get(self, key: tuple, default=None):
+        """The value recorded for one item key (see the module doc), or `default` when it was not examined."""
         return self.items.get(key, default)
 
     def replace(self, updates: Mapping[tuple, object] = (), remove=(), **kw) -> "Findings":
+        """A new `Findings` with items updated or removed (and `label` / `phase` changed when given)."""
         items = dict(self.items)
         items.update(dict(updates))
         for k in remove:
@@ -118,12 +133,15 @@ class Findings:
         return Findings(items, kw.get("label", self.label), kw.get("phase", self.phase))
 
     def to_dict(self) -> dict:
+        """The findings document (format cordmap-findings/1) as a dict."""
         return to_document(self)
 
     def to_json(self, indent: int | None = 2) -> str:
+        """The findings document as JSON text."""
         return json.dumps(to_document(self), indent=indent)
 
     def tidy(self) -> pd.DataFrame:
+        """One row per entered item: columns exam, name, side, segment, value (what `from_tidy` reads)."""
         rows = []
         for key, value in self.items.items():
             kind = key[0]
@@ -227,7 +245,10 @@ def parse(doc) -> Findings:
     fmt = doc.get("format")
     if fmt != FORMAT:
         raise CordmapError(f"format: {shown(fmt)} is not a findings format this version reads; expected {FORMAT!r}")
-    _known(doc, ("format", "label", "phase", "sensory", "motor", "reflexes", "signs"), "", "key")
+    _known(doc, DOCUMENT_KEYS, "", "key")
+    caution = doc.get("caution", "")
+    if not isinstance(caution, str):  # written by cordmap's outputs (simulate); read and ignored
+        raise CordmapError(f"caution: expected text, got {shown(caution, 40)}")
     label = doc.get("label", "")
     if not isinstance(label, str):
         raise CordmapError(f"label: expected text, got {shown(label, 40)}")

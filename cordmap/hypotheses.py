@@ -165,7 +165,7 @@ def leading_hypotheses(score: np.ndarray, post: np.ndarray, d: _Derived, n: int)
             shown[g] = len(out)
             out.append((members, mass))
     order = sorted(range(len(out)), key=lambda k: -out[k][1])  # folding can reorder them (a stable sort)
-    return [out[k] for k in order]
+    return [(out[k][0], min(float(out[k][1]), 1.0)) for k in order]  # a sum of float64 parts can pass 1 by ulps
 
 
 def _leading(score: np.ndarray, n: int) -> np.ndarray:

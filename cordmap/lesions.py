@@ -536,22 +536,26 @@ class Lesion:
         return cls(CUSTOM, "both", top, bottom, (), phase, mask)
 
     def param(self, name: str) -> float:
+        """The value of one parameter (its default when not given)."""
         for k, v in self.params:
             if k == name:
                 return v
         return next(p.default for p in PATTERNS[self.pattern].params if p.name == name)
 
     def all_params(self) -> dict[str, float]:
+        """Every parameter of the pattern with its value, defaults filled in."""
         if self.pattern == CUSTOM:
             return {}
         return {p.name: self.param(p.name) for p in PATTERNS[self.pattern].params}
 
     @property
     def top_index(self) -> int:
+        """The rostral segment's position, 0 for C1."""
         return anatomy().index(self.top)
 
     @property
     def bottom_index(self) -> int:
+        """The caudal segment's position, 0 for C1."""
         return anatomy().index(self.bottom)
 
     def describe(self) -> str:

@@ -59,6 +59,9 @@ def size_prior(at: atlas_mod.Atlas) -> np.ndarray:
 
 @dataclass(frozen=True)
 class Hypothesis:
+    """One clinical hypothesis of a ranking: a lesion family, side and rostral segment, told by its most probable
+    lesion, with the vertebral levels to image and what it explains and conflicts with (in words)."""
+
     rank: int
     lesion: Lesion
     probability: float
@@ -85,7 +88,19 @@ class Hypothesis:
         """The leading lesion in plain words (`cordmap.words`)."""
         return self.lesion.describe()
 
+    def __repr__(self) -> str:
+        from .views import hypothesis_repr
+
+        return hypothesis_repr(self)
+
+    def _repr_html_(self) -> str:
+        """A compact table for notebooks, with the caution."""
+        from .views import hypothesis_html
+
+        return hypothesis_html(self)
+
     def predicted(self) -> Findings:
+        """The bedside findings the hypothesis' lesion predicts."""
         return simulate(self.lesion)
 
     def same_exam_text(self) -> str:
@@ -94,6 +109,7 @@ class Hypothesis:
         return "; ".join(o.describe() for o in self.same_exam) + (f" and {more} more" if more else "")
 
     def to_dict(self) -> dict:
+        """The hypothesis as the ranking document carries it (JSON-ready)."""
         lz = self.lesion
         return {"rank": self.rank, "pattern": lz.pattern, "side": lz.side, "top": lz.top, "bottom": lz.bottom,
                 "params": lz.all_params(), "probability": round(self.probability, 4),
@@ -109,6 +125,11 @@ class Hypothesis:
 
 @dataclass(frozen=True)
 class Ranking:
+    """What `rank` returns: the leading hypotheses, the fit verdict (`good`, `poor`, `normal`, `empty`) and its
+    advice, the next tests, the cautions that apply, marginal probabilities by pattern and by rostral segment, the
+    number of findings examined and the ISNCSCI classification. Evaluate it in a notebook for a table; `.table`
+    gives the hypotheses as a DataFrame, `.to_json()` the document (format cordmap-ranking/1)."""
+
     hypotheses: tuple[Hypothesis, ...]
     fit: str
     advice: str
@@ -119,12 +140,25 @@ class Ranking:
     examined: int = 0
     classification: object | None = None
 
+    def __repr__(self) -> str:
+        from .views import ranking_repr
+
+        return ranking_repr(self)
+
+    def _repr_html_(self) -> str:
+        """A compact table for notebooks: the cautions, the hypotheses, the next tests, the classification."""
+        from .views import ranking_html
+
+        return ranking_html(self)
+
     @property
     def best(self) -> Hypothesis:
+        """The leading hypothesis (an IndexError when nothing was entered: `fit` is then 'empty')."""
         return self.hypotheses[0]
 
     @property
     def table(self) -> pd.DataFrame:
+        """The hypotheses as a DataFrame, one row each (lists joined into text)."""
         rows = [{**h.to_dict(), "params": json.dumps(h.lesion.all_params()),
                  "vertebral_levels": " ".join(h.vertebral_levels), "explains": "; ".join(h.explains),
                  "conflicts": "; ".join(h.conflicts), "same_exam": "; ".join(o.describe() for o in h.same_exam)}
@@ -132,6 +166,7 @@ class Ranking:
         return pd.DataFrame(rows)
 
     def to_dict(self) -> dict:
+        """The ranking document (format cordmap-ranking/1) as a dict."""
         d = {"format": FORMAT, "hypotheses": [h.to_dict() for h in self.hypotheses], "fit": self.fit,
              "next_tests": [{"finding": t.finding, "why": t.why,
                              "answers": [{"if": a, "means": m} for a, m in t.answers]} for t in self.next_tests],
@@ -145,6 +180,7 @@ class Ranking:
         return d
 
     def to_json(self, indent: int | None = 2) -> str:
+        """The ranking document as JSON text."""
         return json.dumps(self.to_dict(), indent=indent)
 
 

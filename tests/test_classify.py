@@ -343,7 +343,7 @@ def test_text_output_carries_caution_and_reasons():
     assert text.rstrip().endswith(CAUTION)
     assert CAUTION == ("Decision support, not a diagnosis. Acute myelopathy is an emergency; high cervical lesions "
                        "threaten breathing; local protocols and licensed clinicians decide.")
-    assert "Not determinable" in text and "sensory_level.left" in text and "light touch left T8" in text
+    assert "Not determinable" in text and "sensory level, left" in text and "light touch left T8" in text
     assert "Impairment grade (AIS): " in text
 
 

@@ -249,9 +249,10 @@ def test_save_and_reload_round_trip(app):
     assert other.findings == app.findings
 
 
-def test_report_png(app):
+def test_report_pdf_and_png(app):
     app.report_btn.click()
-    assert "data:image/png;base64," in app.download.value
+    assert "data:application/pdf;base64," in app.download.value and "cordmap-case.pdf" in app.download.value
+    assert app.report_pdf().startswith(b"%PDF-")
     png = app.report_png()
     assert png.startswith(b"\x89PNG") and len(png) > 20_000
 

@@ -105,5 +105,5 @@ def test_case_sheet_text(monkeypatch):
 
     monkeypatch.setattr(Figure, "text", spy)
     for case in _cases()[:4]:
-        report_png(case.findings, rank(case.findings, top=5), dpi=40)
+        report_png(case.findings, rank(case.findings, top=5))
     assert texts and not [t for t in texts if _bad(t)]

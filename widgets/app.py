@@ -280,6 +280,11 @@ class ExamApp:
 
         return report_png(self.findings, self.ranking, self.selected)
 
+    def report_pdf(self) -> bytes:
+        from .report import report_pdf
+
+        return report_pdf(self.findings, self.ranking, self.selected)
+
     # ------------------------------------------------------------ building
 
     def _build(self) -> None:
@@ -307,7 +312,7 @@ class ExamApp:
         self.save_btn = W.Button(description="Save file", layout=W.Layout(width="90px"))
         self.save_btn.add_class("cm-save")
         self.save_btn.on_click(g(lambda _b: self._offer_save()))
-        self.report_btn = W.Button(description="Case sheet", tooltip="one-page PNG report",
+        self.report_btn = W.Button(description="Case sheet", tooltip="the case sheet as a PDF (text can be copied)",
                                    layout=W.Layout(width="95px"))
         self.report_btn.add_class("cm-report")
         self.report_btn.on_click(g(lambda _b: self._offer_report()))
@@ -340,7 +345,10 @@ class ExamApp:
         body = W.HBox([left, right], layout=W.Layout(align_items="flex-start", justify_content="space-between",
                                                      width="1330px"))
         style = W.HTML(CSS, layout=W.Layout(display="none"))
-        self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.log])
+        from .course_panel import CoursePanel  # serial exams of the open patient
+
+        self.course_panel = CoursePanel(lambda: self.findings)
+        self.widget = W.VBox([style, top, self.caution_box, self.error, body, self.course_panel.widget, self.log])
         self.widget.add_class("cm-app")
 
     def _build_sensation(self) -> W.Widget:
@@ -558,9 +566,9 @@ class ExamApp:
                                f"href='data:application/json;base64,{data}' style='color:#fff'>⤓ findings.json</a>")
 
     def _offer_report(self):
-        data = base64.b64encode(self.report_png()).decode("ascii")
-        self.download.value = (f"<a class='cm-link' download='cordmap-case.png' "
-                               f"href='data:image/png;base64,{data}' style='color:#fff'>⤓ cordmap-case.png</a>")
+        data = base64.b64encode(self.report_pdf()).decode("ascii")
+        self.download.value = (f"<a class='cm-link' download='cordmap-case.pdf' "
+                               f"href='data:application/pdf;base64,{data}' style='color:#fff'>⤓ cordmap-case.pdf</a>")
 
     # ------------------------------------------------------------ bringing widgets in line with the state
 
