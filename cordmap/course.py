@@ -122,10 +122,12 @@ class Course:
 
     @property
     def times(self) -> tuple[float, ...]:
+        """The exams' times, in `time_unit`, first to last."""
         return tuple(e.time for e in self.exams)
 
     @property
     def findings(self) -> tuple[Findings, ...]:
+        """The exams' findings, first to last."""
         return tuple(e.findings for e in self.exams)
 
     def when(self, i: int) -> str:
@@ -138,6 +140,7 @@ class Course:
 
     @cached_property
     def classifications(self) -> tuple[Classification, ...]:
+        """The ISNCSCI classification of each exam."""
         return tuple(classify(e.findings) for e in self.exams)
 
     @cached_property
@@ -161,6 +164,7 @@ class Course:
                            "findings": e.findings.to_dict()} for e in self.exams]}
 
     def to_json(self, indent: int | None = 2) -> str:
+        """The course document (`to_document`) as JSON text."""
         return json.dumps(self.to_document(), indent=indent)
 
     def report(self, **kw):
