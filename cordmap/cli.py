@@ -58,8 +58,10 @@ def _add_lesion_args(p, positional: bool = True):
                    help="the lesion's most rostral (upper) cord segment, e.g. T6 (default T6)")
     p.add_argument("--caudal", default=None, metavar="SEGMENT",
                    help="the lesion's most caudal (lower) cord segment (default: the rostral one)")
-    p.add_argument("--top", dest="old_top", default=None, help=argparse.SUPPRESS)  # old spelling of --rostral
-    p.add_argument("--bottom", dest="old_bottom", default=None, help=argparse.SUPPRESS)  # old --caudal
+    p.add_argument("--top", dest="old_top", default=None, metavar="SEGMENT",
+                   help="old spelling of --rostral (deprecated: it also meant a count elsewhere)")
+    p.add_argument("--bottom", dest="old_bottom", default=None, metavar="SEGMENT",
+                   help="old spelling of --caudal (deprecated)")
     p.add_argument("--param", action="append", metavar="NAME=VALUE", help="pattern parameter, repeatable")
     p.add_argument("--phase", default="chronic", help="chronic or acute (spinal shock)")
 
@@ -245,7 +247,8 @@ def _count(text: str) -> int:
 def _add_show_args(s, default: int) -> None:
     s.add_argument("--show", type=_count, default=None, metavar="N",
                    help=f"how many hypotheses to list, 1..{MAX_TOP} (default {default})")
-    s.add_argument("--top", dest="old_top", type=_count, default=None, help=argparse.SUPPRESS)  # old --show
+    s.add_argument("--top", dest="old_top", type=_count, default=None, metavar="N",
+                   help="old spelling of --show (deprecated: it also meant a segment elsewhere)")
     s.set_defaults(default_show=default)
 
 
