@@ -56,7 +56,8 @@ def report_png(findings, ranking, selected: int = 0, dpi: int = 110) -> bytes:
         h = hyps[min(selected, len(hyps) - 1)]
         _png_axes(fig, (0.53, 0.40, 0.22, 0.42), pictures.section(h.lesion.top, h.lesion),
                   f"#{h.rank} cross-section at {h.lesion.top}")
-        _png_axes(fig, (0.76, 0.40, 0.22, 0.42), pictures.body_map(findings, pictures.predicted(h), "pinprick"),
+        body = pictures.body_map(findings, pictures.predicted(h), "pinprick", h.conflict_items)
+        _png_axes(fig, (0.76, 0.40, 0.22, 0.42), body,
                   "pinprick: entered vs predicted")
 
     yb = 0.34
