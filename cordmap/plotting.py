@@ -506,9 +506,8 @@ def draw_body_map(entered=None, predicted=None, modality: str = "pinprick", fig=
     # title and legend (the legend sits above the caution line, never on it)
     mod = modality.replace("_", " ")
     n = len(rings)
-    fig.text(4 / W, 1 - 3 / H, f"{mod.capitalize()} and key muscles: entered against predicted"
-             + (f" · predicted: {predicted.label[:50]}" if predicted is not None and predicted.label else ""),
-             ha="left", va="top", fontsize=7.4 * pt, weight="bold", family=FONT, color=INK)
+    fig.text(4 / W, 1 - 3 / H, f"{mod.capitalize()} and key muscles: entered against predicted", ha="left", va="top",
+             fontsize=7.4 * pt, weight="bold", family=FONT, color=INK)
     _grade_legend(ax, 160 * H / 230, n)
     _footer(fig)
     return fig
@@ -530,7 +529,7 @@ def _grade_legend(ax, y: float, n_marked: int) -> None:
         x += 20 + 5.2 * len(name)
     rects.append(Rectangle((x, y - 1), 24, 11))
     faces.append("none")
-    ax.text(x + 28, y + 5, f"ringed: conflicts with the exam ({n_marked} in this picture)", ha="left", va="center",
+    ax.text(x + 28, y + 5, f"ringed: conflicts with the exam ({n_marked})", ha="left", va="center",
             fontsize=6 * pt, family=FONT, color=INK)
     y2 = y + 15
     ax.text(6, y2 + 5, "muscle grade (MRC)", ha="left", va="center", fontsize=6 * pt, family=FONT, color=INK)

@@ -4,7 +4,7 @@ Where each part of the page lives (one file per panel, each showing the state it
 
 =====================================  ================================
 top bar: label, demo, open, save, sheet  `files_panel.py`
-tab "Sensation by dermatome"            `sensation_panel.py`
+tab "Sensation"                         `sensation_panel.py`
 tab "Muscles & reflexes"                `power_panel.py`
 tab "Sacral & autonomic"                `sacral_panel.py`
 "Worth examining next"                  `next_tests_panel.py`

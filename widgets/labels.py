@@ -23,7 +23,7 @@ REFLEX_WORD = {"finger_flexors": "finger flexors", "abdominal_upper": "abdominal
 # the sensations the body picture can show, in the order a clinician usually tests them
 PICTURE_MODALITIES = ("pinprick", "light_touch", "vibration", "temperature", "joint_position")
 
-TAB_SENSATION = "Sensation by dermatome"
+TAB_SENSATION = "Sensation"
 TAB_POWER = "Muscles & reflexes"
 TAB_SACRAL = "Sacral & autonomic"
 

@@ -6,7 +6,7 @@ import io
 from functools import lru_cache
 
 SECTION_SIZE = (250, 230)
-BODY_SIZE = (540, 230)
+BODY_SIZE = (490, 230)
 
 
 def _plotting(name: str):

@@ -27,8 +27,8 @@ class PicturesPanel:
         self.body_img.add_class("cm-body")
         self.body_img.add_class("cm-pic")
         self.map_mod = W.Dropdown(options=[(MOD_WORD[m], m) for m in PICTURE_MODALITIES], value="pinprick",
-                                  description="Body picture shows", style={"description_width": "initial"},
-                                  layout=W.Layout(width="250px", min_width="250px"))
+                                  description="Body picture:", style={"description_width": "initial"},
+                                  layout=W.Layout(width="220px", min_width="220px"))
         self.map_mod.add_class("cm-map-mod")
         self.map_mod.observe(state.guard(lambda _c: self.show_body()), names="value")
         self.caption = W.HTML("")
@@ -37,9 +37,9 @@ class PicturesPanel:
         self.ready = W.Button(description="draw", layout=W.Layout(display="none"))
         self.ready.add_class("cm-ready")
         self.ready.on_click(state.guard(lambda _b: self.draw()))
-        pics = W.HBox([self.section_img, self.body_img], layout=W.Layout(justify_content="space-between"))
-        under = W.VBox([self.map_mod, self.caption])
-        self.widget = W.VBox([pics, under, self.ready])
+        side = W.VBox([self.map_mod, self.caption, self.ready], layout=W.Layout(flex="1 1 auto", min_width="0",
+                                                                                 margin="0 0 0 6px"))
+        self.widget = W.VBox([W.HBox([self.section_img, side]), self.body_img])
 
     def draw(self) -> None:
         """Draw both pictures of the current state (a deferred panel draws from now on)."""
@@ -79,5 +79,5 @@ class PicturesPanel:
         n = len(h.conflict_items)
         conflicts = (f"{n} conflict{'s' if n != 1 else ''} with the exam, {shown} of them in this picture (ringed)"
                      if n else "no conflict with the exam")
-        self.caption.value = (f"left: the cord at {esc(h.lesion.top)}, the lesion outlined · right: "
-                              f"{esc(MOD_WORD[mod])} and key muscles, entered against predicted; {conflicts}")
+        self.caption.value = (f"Beside: the cord at {esc(h.lesion.top)}, the lesion outlined. Below: "
+                              f"{esc(MOD_WORD[mod])} and key muscles, entered against predicted; {conflicts}.")

@@ -1,4 +1,4 @@
-"""The tab "Sensation by dermatome": one row of cells per sensation and side (C2 .. S4-5), a click cycles a cell's
+"""The tab "Sensation": per dermatome, one row of cells per sensation and side (C2 .. S4-5), a click cycles a cell's
 grade; under it a level setter ("from T10 down") and a button that marks every cell not yet examined normal."""
 from __future__ import annotations
 
@@ -82,7 +82,7 @@ class SensationPanel:
         level_btn.add_class("cm-level-apply")
         level_btn.on_click(g(lambda _b: self.state.set_level(self.level_from.value, self.level_grade.value,
                                                              self.level_mod.value, self.level_side.value)))
-        fill_btn = W.Button(description="Unexamined → normal", layout=W.Layout(width="150px"),
+        fill_btn = W.Button(description="Unexamined → normal", layout=W.Layout(width="auto"),
                             tooltip="every cell not yet examined (of the chosen sensation) becomes normal")
         fill_btn.add_class("cm-fill")
         fill_btn.on_click(g(lambda _b: self.state.fill_normal(self.level_mod.value)))

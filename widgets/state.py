@@ -99,10 +99,10 @@ class ExamState(T.HasTraits):
             if not keep:
                 self.pinned = None  # follow the leader
             self.error = ""
-            if reason:
-                self.status = reason
             self.lead_changed = old_lead != self.lead_lesion
             self.revision += 1
+            if reason:  # after the panels: a page that sees the status sees the new exam
+                self.status = reason
             return True
         finally:
             self.busy = False

@@ -85,5 +85,7 @@ CSS = f"""
 .cm-exam {{ flex: 0 0 auto; margin-right: 6px; }}
 .cm-hyps {{ flex: 1 1 auto; min-width: 0; }}
 .cm-app .widget-tab > .p-TabBar .p-TabBar-tab, .cm-app .lm-TabBar-tab {{ font-size: 13px; min-width: 120px; }}
+.cm-fill.widget-button {{ padding: 0 10px; }}
+.cm-pic-caption .widget-html-content {{ line-height: 1.35; }}
 </style>
 """
