@@ -396,7 +396,9 @@ def _lamination_legend(fig, box, sec: Section, k: float) -> None:
 def section_png(seg: str, lesion=None, dpi: int = 100, size: tuple[int, int] = (420, 420)) -> bytes:
     """PNG bytes of `draw_section` at `size` pixels (width, height)."""
     fig = _new_figure(size, dpi)
-    ax = fig.add_axes(SECTION_BOX)
+    x0, y0, w, h = SECTION_BOX
+    lift = 0.0 if size[0] >= 360 else 14 / size[1]  # the caution wraps to two lines on a narrow picture: room for it
+    ax = fig.add_axes((x0, y0 + lift, w, h - lift))
     draw_section(seg, lesion, ax=ax)
     return _png(fig, dpi)
 
