@@ -457,8 +457,8 @@ def draw_body_map(entered=None, predicted=None, modality: str = "pinprick", fig=
     modality = _modality(modality)
     a = anatomy()
     fig = fig or _new_figure((540, 230))
-    W, H = fig.get_size_inches() * fig.dpi
-    pt = 100 / fig.dpi  # font sizes are given as at 100 dpi: the layout is in pixels
+    W, H = fig.get_size_inches() * 100  # the layout is in pixels at 100 dpi (sharper at a higher dpi)
+    pt = 1.0
     ax = fig.add_axes([0, 0, 1, 1])
     ax.set_axis_off()
     ax.set_xlim(0, W)
@@ -494,8 +494,8 @@ def draw_body_map(entered=None, predicted=None, modality: str = "pinprick", fig=
             ax.text(_LEFT_PX - 3, top + _ROW_Y[r] + _ROW_H / 2, name, ha="right",
                     va="center", fontsize=5.8 * pt, family=FONT, color="#444444")
     ax.add_collection(PatchCollection(boxes, facecolors=faces, edgecolors="#9a9a9a", linewidths=0.4), autolim=False)
-    ax.add_collection(PatchCollection(blanks, facecolors=NOT_EXAMINED, edgecolors="#c4c4c4", linewidths=0.4),
-                      autolim=False)
+    ax.add_collection(PatchCollection(blanks, facecolors=NOT_EXAMINED, edgecolors="#c4c4c4", linewidths=0.4,
+                                      hatch="////"), autolim=False)
     for x, y, text, colour in digits:
         ax.text(x, y + 0.5, text, ha="center", va="center", fontsize=(4.6 if text == "NT" else 5.6) * pt,
                 family=FONT, color=colour)
@@ -520,7 +520,7 @@ def _grade_legend(ax, y: float, n_marked: int) -> None:
     from matplotlib.collections import PatchCollection
     from matplotlib.patches import Rectangle
 
-    pt = 100 / ax.figure.dpi
+    pt = 1.0
     rects, faces = [], []
     x = 6.0
     for g in (2, 1, 0, None):
@@ -542,10 +542,12 @@ def _grade_legend(ax, y: float, n_marked: int) -> None:
         ax.text(x + 6.5, y2 + 5.5, str(g), ha="center", va="center", fontsize=5.6 * pt, family=FONT,
                 color="white" if g <= 2 else INK)
     edges = ["#9a9a9a"] * (len(rects))
-    edges[4] = INK
+    edges[3], edges[4] = "#c4c4c4", INK
     widths = [0.4] * len(rects)
     widths[4] = 1.6
     ax.add_collection(PatchCollection(rects, facecolors=faces, edgecolors=edges, linewidths=widths), autolim=False)
+    ax.add_collection(PatchCollection([Rectangle(rects[3].get_xy(), 12, 9)], facecolors=NOT_EXAMINED,
+                                      edgecolors="#c4c4c4", linewidths=0.4, hatch="////"), autolim=False)
 
 
 def body_map_png(entered=None, predicted=None, modality: str = "pinprick", dpi: int = 100,
