@@ -104,7 +104,9 @@ def test_error_pages_carry_no_traceback(server):
         assert status >= 400 and "Traceback" not in body and 'File "' not in body, (path, status, body[:200])
 
 
-@pytest.mark.xfail(strict=False, reason="its first page load can stall as above (failed once in a full run)")
+@pytest.mark.xfail(strict=False, reason=(
+    "open: closing the first page (run_before_unload) left its kernel alive past the 20 s wait here, so the second "
+    "load got the 503 page (measured on main db16c8d too; the retry open_dashboard had until issue 16 hid it)"))
 def test_full_server_answers_with_a_page_that_says_so(browser):
     s = Server(max_sessions=1)
     try:

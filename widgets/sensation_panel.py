@@ -82,7 +82,7 @@ class SensationPanel:
         level_btn.add_class("cm-level-apply")
         level_btn.on_click(g(lambda _b: self.state.set_level(self.level_from.value, self.level_grade.value,
                                                              self.level_mod.value, self.level_side.value)))
-        fill_btn = W.Button(description="Unexamined → normal", layout=W.Layout(width="auto"),
+        fill_btn = W.Button(description="Set unexamined to normal", layout=W.Layout(width="auto"),
                             tooltip="every cell not yet examined (of the chosen sensation) becomes normal")
         fill_btn.add_class("cm-fill")
         fill_btn.on_click(g(lambda _b: self.state.fill_normal(self.level_mod.value)))
