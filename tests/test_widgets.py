@@ -410,3 +410,31 @@ def test_an_upload_reported_over_the_limit_gets_a_message(app):
     before = lead(app)
     app.files.upload.value = upload_value("huge.json", b"", size=50_000_000)
     assert "50,000,000 bytes is over the 1 MB limit" in app.errors[-1] and lead(app) == before
+
+
+def test_labels_are_in_a_clinicians_words(app):
+    """Labels issue 16 replaced stay gone; S4-5 is written as the standard writes it (ISNCSCI worksheet, 2019)."""
+    import ipywidgets as W
+
+    texts, stack, seen = [], [app.widget], set()
+    while stack:
+        w = stack.pop()
+        if id(w) in seen:
+            continue
+        seen.add(id(w))
+        for attr in ("description", "value", "tooltip"):
+            v = getattr(w, attr, None)
+            if isinstance(v, str):
+                texts.append(v)
+        if isinstance(w, W.Tab):
+            texts += list(w.titles)
+        if isinstance(w, W.Dropdown):
+            texts += list(w._options_labels)
+        stack += list(getattr(w, "children", ()))
+    page = "\n".join(texts)
+    for gone in ("Sensation ribbons", "S45", "rest normal", "set, and all below", "voluntary anal squeeze",
+                 "Open file", "Segment ladder"):
+        assert gone not in page, gone
+    assert app.pictures.map_mod.description != "map"
+    assert ">S4-5<" in app.sensation.widget.children[0].value
+    assert "voluntary anal contraction" in page
