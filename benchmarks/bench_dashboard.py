@@ -41,8 +41,9 @@ from tests.dashboard_page import (  # noqa: E402
 VIEWPORT = {"width": 1366, "height": 768}
 DEMO = "thoracic-hemicord"
 CYCLE = {None: 2, 2: 1, 1: 0, 0: None}  # the app's click cycle (widgets.labels.CYCLE)
-PREFIX = [("pinprick", "right", d) for d in ("T4", "T5", "T6")]  # unmeasured clicks before the measured one
-MEASURED = ("pinprick", "right", "T7")  # moves the demo's leader one segment up once the prefix is in
+# unmeasured clicks before the measured one: the demo's left dorsal-column level raised (as tests/test_browser.py)
+PREFIX = [("vibration", "left", d) for d in ("T4", "T5", "T6")] + [("pinprick", "right", d) for d in ("T4", "T5")]
+MEASURED = ("pinprick", "right", "T6")  # moves the demo's leader one segment up once the prefix is in
 VARY = ("temperature", "left")  # one more unmeasured cell per round, so no two measured exams are the same
 
 READY_JS = DRAWN_JS  # the leader and the first pictures shown
