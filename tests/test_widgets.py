@@ -348,9 +348,10 @@ def test_dashboard_draws_its_pictures_when_the_page_has_its_widgets():
 
     app = dashboard(pictures_in_background=False)
     assert app.ranking.hypotheses and bytes(app.pictures.section_img.value).startswith(b"\x89PNG")
-    threads = set(threading.enumerate())
     app = dashboard()
-    assert set(threading.enumerate()) <= threads  # no thread of its own
+    for t in threading.enumerate():  # it draws into the caches only: the widgets wait for the page's click
+        if t.name == "cordmap-pictures-prepare":
+            t.join(60)
     for img in (app.pictures.section_img, app.pictures.body_img):
         assert img.format == "svg+xml" and b"drawing the" in bytes(img.value)
     assert "drawing" in app.pictures.caption.value

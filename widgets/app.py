@@ -16,6 +16,8 @@ the exam, its ranking, the actions      `state.py` (the one place that re-ranks)
 """
 from __future__ import annotations
 
+import threading
+
 import ipywidgets as W
 
 from cordmap import cautions, demo
@@ -160,7 +162,8 @@ def dashboard(findings=None, ranker=None, pictures_in_background: bool = True) -
     are drawn when the page has its widgets (the cordmap page template clicks the hidden button ``cm-ready`` once it
     is in the page), so the ranking shows about a second sooner on a cold start. They are drawn in the kernel's own
     thread on that click: a drawing thread of their own raced the page's first fetch of the widget states and
-    sometimes left the first cross-section undrawn. Without it they are drawn at once."""
+    sometimes left the first cross-section undrawn; a thread now only draws them into the caches meanwhile (it touches
+    no widget), so the click just sends them. Without it they are drawn at once."""
     import os
     from pathlib import Path
 
@@ -171,6 +174,9 @@ def dashboard(findings=None, ranker=None, pictures_in_background: bool = True) -
             app.state.commit(parse(Path(path)), reason=f"loaded {os.path.basename(str(path))}")
         except CordmapError as e:
             app.state.show_error(e)
-    if not pictures_in_background:
+    if pictures_in_background:
+        # matplotlib loads and the first pictures are drawn into the caches meanwhile; this thread touches no widget
+        threading.Thread(target=app.pictures.prepare, name="cordmap-pictures-prepare", daemon=True).start()
+    else:
         app.pictures.draw()
     return app

@@ -41,6 +41,15 @@ class PicturesPanel:
                                                                                  margin="0 0 0 6px"))
         self.widget = W.VBox([W.HBox([self.section_img, side]), self.body_img])
 
+    def prepare(self) -> None:
+        """Draw the current state's pictures into the caches without touching a widget (safe in a thread while the
+        page is being served: `draw` then only sends them)."""
+        st = self.state
+        h = st.hypothesis
+        if h is not None:
+            pictures.section(h.lesion.top, h.lesion)
+            pictures.body_map(st.findings, pictures.predicted(h), self.map_mod.value, h.conflict_items)
+
     def draw(self) -> None:
         """Draw both pictures of the current state (a deferred panel draws from now on)."""
         if not self.deferred:
