@@ -14,6 +14,7 @@ import numpy as np
 from . import atlas as atlas_mod
 from . import observation
 from .anatomy import anatomy, cord_region, family_priors
+from .findings import item_values
 from .lesions import NORMAL, PATTERNS
 
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
@@ -36,6 +37,27 @@ def _abnormal(key, value) -> bool:
         return bool(value)
     return value not in (True, "present", "normal")
 
+
+
+# An entered value the candidate gives less than this probability (its observation model, `observation.py`) is a
+# conflict: what the ranking lists as conflicts and what the body picture marks are this one rule (`agreement`).
+# Judgement, no source: 0.2 leaves the boundary shifts and grade noise the observation model expects unmarked.
+CONFLICT_BELOW = 0.2
+
+
+def agreement(f, items, logp: np.ndarray, likely: np.ndarray) -> tuple[list, list]:
+    """(explained, conflicting) for one candidate: lists of (key, entered, predicted) triples over the entered
+    `items`; `logp[j]` is the candidate's log-probability of the entered value of `items[j]`, `likely[j]` the
+    index of its most likely value. Explained: the predicted value is the entered one and it is abnormal."""
+    agree, conflict = [], []
+    for key, c, k in zip(items, logp, likely):
+        entered = f.items[key]
+        pv = item_values(key)[int(k)]
+        if np.exp(c) < CONFLICT_BELOW:
+            conflict.append((key, entered, pv))
+        elif pv == entered and _abnormal(key, entered):
+            agree.append((key, entered, pv))
+    return agree, conflict
 
 
 @dataclass(frozen=True)

@@ -7,9 +7,12 @@ Public API
 ----------
 * ``draw_section(seg, lesion=None, ax=None, lamination=True, labels=True) -> Figure``
 * ``section_png(seg, lesion=None, dpi=100, size=(420, 420)) -> bytes``  (size in pixels)
-* ``draw_body_map(entered, predicted, modality="pinprick") -> Figure``
-* ``body_map_png(entered, predicted, modality="pinprick", dpi=100, size=(420, 420)) -> bytes``
-* ``disagreements(entered, predicted, modality="pinprick") -> list[tuple]``: the cells the body map frames
+* ``draw_body_map(entered, predicted, modality="pinprick", conflicts=()) -> Figure``: per side a band of the
+  dermatomes C2 .. S4-5 (entered above predicted) and the key muscles; the ranking's conflicts ringed
+* ``body_map_png(entered, predicted, modality="pinprick", dpi=100, size=(540, 230), conflicts=()) -> bytes``
+
+What counts as a conflict is decided once, by the ranking (`cordmap.hypotheses.agreement`); the picture rings
+the items it is given.
 
 Every figure carries the caution ``cordmap.cautions.DECISION_SUPPORT`` as a footer.
 
@@ -393,12 +396,14 @@ def _lamination_legend(fig, box, sec: Section, k: float) -> None:
 def section_png(seg: str, lesion=None, dpi: int = 100, size: tuple[int, int] = (420, 420)) -> bytes:
     """PNG bytes of `draw_section` at `size` pixels (width, height)."""
     fig = _new_figure(size, dpi)
-    ax = fig.add_axes(SECTION_BOX)
+    x0, y0, w, h = SECTION_BOX
+    lift = 0.0 if size[0] >= 360 else 14 / size[1]  # the caution wraps to two lines on a narrow picture: room for it
+    ax = fig.add_axes((x0, y0 + lift, w, h - lift))
     draw_section(seg, lesion, ax=ax)
     return _png(fig, dpi)
 
 
-# ---------------------------------------------------------------- body map ("segment ladder")
+# ---------------------------------------------------------------- body picture (bands of dermatomes)
 
 def _modality(modality: str) -> str:
     if modality not in MODALITIES:
@@ -410,150 +415,144 @@ def _examined(v) -> bool:
     return v is not None and v != "NT"
 
 
-def disagreements(entered, predicted, modality: str = "pinprick") -> list[tuple]:
-    """Items where the entered exam and the prediction differ, both being examined, in ladder order.
+def _conflict_keys(conflicts) -> set:
+    """Item keys from `conflicts`: keys, or (key, entered, predicted) triples (`Hypothesis.conflict_items`)."""
+    return {c[0] if c and isinstance(c[0], tuple) else tuple(c) for c in conflicts or ()}
 
-    Each item is ``("sensory", side, dermatome, entered, predicted)`` for `modality` grades (0/1/2) or
-    ``("motor", side, myotome, entered, predicted)`` for key-muscle grades. The body map frames these cells.
-    """
-    modality = _modality(modality)
-    if entered is None or predicted is None:
-        return []
-    a = anatomy()
-    out = []
-    for side in SIDES:
-        for d in a.dermatomes:
-            e, p = entered.get(("sensory", modality, side, d)), predicted.get(("sensory", modality, side, d))
-            if _examined(e) and _examined(p) and e != p:
-                out.append(("sensory", side, d, e, p))
-        for m in a.key_myotomes:
-            e, p = entered.get(("motor", side, m)), predicted.get(("motor", side, m))
-            if _examined(e) and _examined(p) and e != p:
-                out.append(("motor", side, m, e, p))
+
+# Layout in pixels of the figure (x right, y down): a label column, then the 28 dermatomes C2 .. S4-5 left to right
+# with a small gap where arm, trunk, leg and sacral dermatomes meet (the order of the app's entry grid). Per side a
+# band of four rows: the sensation entered, the sensation predicted, the key muscles entered and predicted (each
+# muscle under the column of its segment); the dermatome names run between the two bands.
+_BANDS = {"left": 30, "right": 106}  # top of each side's band (its name above it)
+_ROW_Y = (0, 11, 24, 35)  # sensation E, P; muscle E, P (offsets in the band)
+_ROW_H = 10
+_ROW_NAMES = ("entered", "predicted", "muscles: entered", "predicted")
+_NAMES_Y = 86  # baseline of the dermatome names
+_GAP_BEFORE = ("T1", "L1", "S1")
+_LEFT_PX = 78  # the label column
+
+
+def _columns(width: float) -> dict[str, tuple[float, float]]:
+    """x and width of each dermatome's column."""
+    derms = anatomy().dermatomes
+    gap = 4.0
+    w = (width - _LEFT_PX - 8 - gap * len(_GAP_BEFORE)) / len(derms)
+    out, x = {}, float(_LEFT_PX)
+    for d in derms:
+        if d in _GAP_BEFORE:
+            x += gap
+        out[d] = (x, w)
+        x += w
     return out
 
 
-# x position (left edge, data units) of each column of the ladder; the patient's left is on the viewer's left
-_COLUMNS = {("left", "motor"): 0.0, ("left", "sensory"): 2.5, ("right", "sensory"): 6.3, ("right", "motor"): 8.8}
-_LABEL_X = 5.4  # centre of the dermatome names
-_CELL_H = 0.84
-
-
-def draw_body_map(entered=None, predicted=None, modality: str = "pinprick", fig=None):
-    """A segment ladder: dermatomes C2..S4-5 top to bottom; per side an entered (E) and a predicted (P) column
-    of `modality` grades, with the key-muscle grades beside their segment's row. Cells where E and P differ
-    (`disagreements`) get a bold frame. Returns the Figure.
-    """
+def draw_body_map(entered=None, predicted=None, modality: str = "pinprick", fig=None, conflicts=()):
+    """The body picture: per side one band of the dermatomes C2 .. S4-5, the `modality` grade entered above the one
+    predicted, and the key muscles' grades under their segments (entered, predicted). The items of `conflicts` (the
+    ranking's: `Hypothesis.conflict_items`, or bare item keys) are ringed. Returns the Figure."""
     from matplotlib.collections import PatchCollection
     from matplotlib.patches import Rectangle
 
     modality = _modality(modality)
     a = anatomy()
-    fig = fig or _new_figure()
-    k = _scale(fig)
-    ax = fig.add_axes([0.03, 0.15, 0.94, 0.7])
+    fig = fig or _new_figure((540, 230))
+    W, H = fig.get_size_inches() * 100  # the layout is in pixels at 100 dpi (sharper at a higher dpi)
+    pt = 1.0
+    ax = fig.add_axes([0, 0, 1, 1])
     ax.set_axis_off()
-    n = len(a.dermatomes)
-    ax.set_xlim(-0.2, 11.0)
-    ax.set_ylim(n + 0.1, -3.3)
+    ax.set_xlim(0, W)
+    ax.set_ylim(H, 0)
+    cols = _columns(W)
+    marked = _conflict_keys(conflicts)
     sources = (entered, predicted)
-    faces, boxes, blanks, digits = [], [], [], []
+    faces, boxes, blanks, digits, rings = [], [], [], [], []
     for side in SIDES:
-        for kind in ("sensory", "motor"):
-            x0 = _COLUMNS[(side, kind)]
-            for r, d in enumerate(a.dermatomes):
+        top = _BANDS[side]
+        for r, (kind, src) in enumerate((("sensory", 0), ("sensory", 1), ("motor", 0), ("motor", 1))):
+            y = top + _ROW_Y[r]
+            for d, (x, w) in cols.items():
                 if kind == "motor" and d not in a.key_myotomes:
                     continue
-                for c, f in enumerate(sources):
-                    key = ("sensory", modality, side, d) if kind == "sensory" else ("motor", side, d)
-                    v = None if f is None else f.get(key)
-                    rect = (x0 + c, r + (1 - _CELL_H) / 2)
-                    if not _examined(v):
-                        blanks.append(Rectangle(rect, 0.92, _CELL_H))
-                        if kind == "motor":
-                            digits.append((rect, "NT", INK))
-                        continue
-                    colour = GRADE_COLOURS[v] if kind == "sensory" else MOTOR_COLOURS[v]
-                    boxes.append(Rectangle(rect, 0.92, _CELL_H))
-                    faces.append(colour)
-                    if kind == "motor":
-                        digits.append((rect, str(v), "white" if v <= 2 else INK))
-    ax.add_collection(PatchCollection(boxes, facecolors=faces, edgecolors="#9a9a9a", linewidths=0.4 * k),
-                      autolim=False)
-    ax.add_collection(PatchCollection(blanks, facecolors=NOT_EXAMINED, edgecolors="#b5b5b5",
-                                      linewidths=0.4 * k, hatch="////"), autolim=False)
-    for (x, y), text, colour in digits:
-        ax.text(x + 0.46, y + _CELL_H / 2, text, ha="center", va="center", fontsize=(5 if text == "NT" else 6) * k,
-                family=FONT, color=colour)
-    # disagreement frames around the E/P pair
-    rows = {d: r for r, d in enumerate(a.dermatomes)}
-    frames = [Rectangle((_COLUMNS[(side, kind)] - 0.1, rows[seg] + (1 - _CELL_H) / 2 - 0.08), 2.02, _CELL_H + 0.16)
-              for kind, side, seg, _, _ in disagreements(entered, predicted, modality)]
-    marks = PatchCollection(frames, facecolors="none", edgecolors=INK, linewidths=1.7 * k, zorder=3)
-    marks.set_gid("disagreements")
-    ax.add_collection(marks, autolim=False)
-    # dermatome names, region breaks, headers
-    for r, d in enumerate(a.dermatomes):
-        ax.text(_LABEL_X, r + 0.5, d, ha="center", va="center", fontsize=6.2 * k, family=FONT, color=INK)
-    breaks = [r for r in range(1, n) if a.dermatomes[r][0] != a.dermatomes[r - 1][0]]
-    for r in breaks:
-        ax.plot([-0.15, 10.9], [r, r], color="#666666", lw=0.7 * k, ls=(0, (2, 1.5)))
-    mod = modality.replace("_", " ")
-    for side in SIDES:
-        for kind in ("sensory", "motor"):
-            x0 = _COLUMNS[(side, kind)]
-            ax.text(x0 + 0.96, -0.45, "E    P", ha="center", va="bottom", fontsize=6 * k, family=FONT, color=INK)
-            ax.text(x0 + 0.96, -1.45, mod if kind == "sensory" else "muscle", ha="center", va="bottom",
-                    fontsize=6 * k, family=FONT, color="#444444")
-        cx = (_COLUMNS[(side, "motor")] + _COLUMNS[(side, "sensory")]) / 2 + 0.96
-        ax.text(cx, -2.5, f"patient's {side.upper()}", ha="center", va="bottom", fontsize=7.6 * k, weight="bold",
+                key = ("sensory", modality, side, d) if kind == "sensory" else ("motor", side, d)
+                f = sources[src]
+                v = None if f is None else f.get(key)
+                rect = Rectangle((x + 0.5, y), w - 1, _ROW_H)
+                if not _examined(v):
+                    blanks.append(rect)
+                else:
+                    boxes.append(rect)
+                    faces.append(GRADE_COLOURS[v] if kind == "sensory" else MOTOR_COLOURS[v])
+                if kind == "motor":
+                    text = str(v) if _examined(v) else "NT" if v == "NT" else ""
+                    digits.append((x + w / 2, y + _ROW_H / 2, text, "white" if _examined(v) and v <= 2 else INK))
+                if src == 0 and key in marked:
+                    rings.append(Rectangle((x - 0.5, y - 1.5), w + 1, 2 * _ROW_H + 4))
+        ax.text(3, top - 3, f"Patient's {side}", ha="left", va="bottom", fontsize=7 * pt, weight="bold",
                 family=FONT, color=INK)
-
-    # title, legend, caution
-    count = len(disagreements(entered, predicted, modality))
-    pred = (predicted.label or "predicted") if predicted is not None else "none given"
-    fig.text(0.03, 0.985, f"Segment ladder: {mod} and key muscles", ha="left", va="top", fontsize=8.6 * k,
-             weight="bold", family=FONT, color=INK)
-    fig.text(0.03, 0.945, f"E = entered exam, P = predicted ({pred[:60]})", ha="left", va="top",
-             fontsize=6.4 * k, family=FONT, color="#444444")
-    fig.text(0.03, 0.912, f"bold frame = E and P disagree ({count} item{'s' if count != 1 else ''})",
-             ha="left", va="top", fontsize=6.4 * k, family=FONT, color="#444444")
-    _grade_legend(fig, k)
+        for r, name in enumerate(_ROW_NAMES):
+            ax.text(_LEFT_PX - 3, top + _ROW_Y[r] + _ROW_H / 2, name, ha="right",
+                    va="center", fontsize=5.8 * pt, family=FONT, color="#444444")
+    ax.add_collection(PatchCollection(boxes, facecolors=faces, edgecolors="#9a9a9a", linewidths=0.4), autolim=False)
+    ax.add_collection(PatchCollection(blanks, facecolors=NOT_EXAMINED, edgecolors="#c4c4c4", linewidths=0.4,
+                                      hatch="////"), autolim=False)
+    for x, y, text, colour in digits:
+        ax.text(x, y + 0.5, text, ha="center", va="center", fontsize=(4.6 if text == "NT" else 5.6) * pt,
+                family=FONT, color=colour)
+    marks = PatchCollection(rings, facecolors="none", edgecolors=INK, linewidths=1.6, zorder=3)
+    marks.set_gid("conflicts")
+    ax.add_collection(marks, autolim=False)
+    for d, (x, w) in cols.items():
+        ax.text(x + w / 2, _NAMES_Y, d, ha="center", va="baseline", fontsize=(4.6 if len(d) > 2 else 5.8) * pt,
+                family=FONT, color=INK)
+    # title and legend (the legend sits above the caution line, never on it)
+    mod = modality.replace("_", " ")
+    n = len(rings)
+    fig.text(4 / W, 1 - 3 / H, f"{mod.capitalize()} and key muscles: entered against predicted", ha="left", va="top",
+             fontsize=7.4 * pt, weight="bold", family=FONT, color=INK)
+    _grade_legend(ax, 160 * H / 230, n)
     _footer(fig)
     return fig
 
 
-def _grade_legend(fig, k: float) -> None:
+def _grade_legend(ax, y: float, n_marked: int) -> None:
+    """Two lines of keys at pixel row `y`: the sensation grades and the ringed conflicts; the muscle grades."""
     from matplotlib.collections import PatchCollection
     from matplotlib.patches import Rectangle
 
-    y, h, w = 0.085, 0.03, 0.035
-    rects, faces, hatched = [], [], []
-    x = 0.03
-    for g in (2, 1, 0):
-        rects.append(Rectangle((x, y), w, h))
-        faces.append(GRADE_COLOURS[g])
-        fig.text(x + w + 0.008, y + h / 2, GRADE_NAMES[g], ha="left", va="center", fontsize=6 * k, family=FONT)
-        x += w + 0.13
-    hatched.append(Rectangle((x, y), w, h))
-    fig.text(x + w + 0.008, y + h / 2, "not examined", ha="left", va="center", fontsize=6 * k, family=FONT)
-    y2 = 0.038
-    fig.text(0.03, y2 + h / 2, "muscle grade", ha="left", va="center", fontsize=6 * k, family=FONT)
-    for i, g in enumerate(range(6)):
-        x = 0.2 + i * (w + 0.004)
-        rects.append(Rectangle((x, y2), w, h))
+    pt = 1.0
+    rects, faces = [], []
+    x = 6.0
+    for g in (2, 1, 0, None):
+        rects.append(Rectangle((x, y), 12, 9))
+        faces.append(GRADE_COLOURS[g] if g is not None else NOT_EXAMINED)
+        name = GRADE_NAMES[g] if g is not None else "not examined"
+        ax.text(x + 15, y + 5, name, ha="left", va="center", fontsize=6 * pt, family=FONT, color=INK)
+        x += 20 + 5.2 * len(name)
+    rects.append(Rectangle((x, y - 1), 24, 11))
+    faces.append("none")
+    ax.text(x + 28, y + 5, f"ringed: conflicts with the exam ({n_marked})", ha="left", va="center",
+            fontsize=6 * pt, family=FONT, color=INK)
+    y2 = y + 15
+    ax.text(6, y2 + 5, "muscle grade (MRC)", ha="left", va="center", fontsize=6 * pt, family=FONT, color=INK)
+    for g in range(6):
+        x = 96 + g * 15
+        rects.append(Rectangle((x, y2), 13, 10))
         faces.append(MOTOR_COLOURS[g])
-        fig.text(x + w / 2, y2 + h / 2, str(g), ha="center", va="center", fontsize=5.6 * k, family=FONT,
-                 color="white" if g <= 2 else INK)
-    fig.add_artist(PatchCollection(rects, facecolors=faces, edgecolors="#9a9a9a", linewidths=0.4,
-                                   transform=fig.transFigure))
-    fig.add_artist(PatchCollection(hatched, facecolors=NOT_EXAMINED, edgecolors="#b5b5b5", linewidths=0.4,
-                                   hatch="////", transform=fig.transFigure))
+        ax.text(x + 6.5, y2 + 5.5, str(g), ha="center", va="center", fontsize=5.6 * pt, family=FONT,
+                color="white" if g <= 2 else INK)
+    edges = ["#9a9a9a"] * (len(rects))
+    edges[3], edges[4] = "#c4c4c4", INK
+    widths = [0.4] * len(rects)
+    widths[4] = 1.6
+    ax.add_collection(PatchCollection(rects, facecolors=faces, edgecolors=edges, linewidths=widths), autolim=False)
+    ax.add_collection(PatchCollection([Rectangle(rects[3].get_xy(), 12, 9)], facecolors=NOT_EXAMINED,
+                                      edgecolors="#c4c4c4", linewidths=0.4, hatch="////"), autolim=False)
 
 
 def body_map_png(entered=None, predicted=None, modality: str = "pinprick", dpi: int = 100,
-                 size: tuple[int, int] = (420, 420)) -> bytes:
+                 size: tuple[int, int] = (540, 230), conflicts=()) -> bytes:
     """PNG bytes of `draw_body_map` at `size` pixels (width, height)."""
     fig = _new_figure(size, dpi)
-    draw_body_map(entered, predicted, modality, fig=fig)
+    draw_body_map(entered, predicted, modality, fig=fig, conflicts=conflicts)
     return _png(fig, dpi)

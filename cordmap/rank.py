@@ -28,6 +28,7 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     _Derived,
     _derived,
     _leading,
+    agreement,
     exam_groups,
     leading_groups,
     leading_hypotheses,
@@ -79,6 +80,9 @@ class Hypothesis:
     same_exam: tuple[Lesion, ...] = ()
     same_exam_count: int = 0
     variants: tuple[Lesion, ...] = ()
+    # every conflict as (item, entered, predicted), by `hypotheses.agreement`: what `conflicts` says in words and
+    # what the body picture marks
+    conflict_items: tuple[tuple, ...] = field(default=(), repr=False)
     # where to image and why (`cordmap.imaging`): the windows of the lesion, its variants and the listed lesions
     # with its exam; `vertebral_levels` merges those that hold without a condition
     imaging: tuple[Window, ...] = ()
@@ -336,15 +340,8 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     lesion = at.lesion(i)
     same = same_exam(at, i, score)
     others = tuple(at.lesion(int(j)) for j in listed(at, same))
-    agree, conflict = [], []
     index = at.item_index
-    for key, c in zip(items, raw[:, i]):
-        entered = f.items[key]
-        pv = item_values(key)[int(d.likely[index[key], i])]
-        if np.exp(c) < 0.2:
-            conflict.append((key, entered, pv))
-        elif pv == entered and _abnormal(key, entered):
-            agree.append((key, entered, pv))
+    agree, conflict = agreement(f, items, raw[:, i], [d.likely[index[key], i] for key in items])
     explains = _describe(agree, conflicts=False)
     conflicts = _describe(conflict, conflicts=True)
     summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
@@ -360,7 +357,7 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     wins = merge_windows(windows(x) for x in (lesion, *variants, *others))
     levels = merge_levels([w.levels for w in wins if not w.advice])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(same), variants, wins)
+                      summary, others, len(same), variants, conflict_items=tuple(conflict), imaging=wins)
 
 
 

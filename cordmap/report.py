@@ -246,7 +246,8 @@ def report_figures(findings, ranking, top: int = 5, selected: int = 0) -> list:
                                                                                   size=(460, 420)),
                          f"Hypothesis {h.rank}: cross-section at {h.lesion.top}")
                 _picture(fig, (0.52, y0, 0.43, pic_h), plotting.body_map_png(findings, h.predicted(), "pinprick",
-                                                                             size=(460, 420)),
+                                                                             size=(560, 300),
+                                                                             conflicts=h.conflict_items),
                          "Pinprick: entered and predicted")
             elif kind == "title":
                 fig.text(x, (y - 0.05) / H, text, fontsize=15, weight="bold", color=ACCENT, va="top")

@@ -185,6 +185,9 @@ def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "1
             f"--Voila.kernel_websocket_connection_class={CONNECTION_CLASS}"]
 
 
+BLAS_THREADS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+
+
 def server_env(findings: str | os.PathLike | None = None, token: str = "") -> dict[str, str]:
     """The server's environment: no inherited MPLBACKEND (it reaches the kernel), the findings path if any, the
     token if any (the server drops it from its environment once read)."""
@@ -198,6 +201,11 @@ def server_env(findings: str | os.PathLike | None = None, token: str = "") -> di
     if share:
         env["JUPYTER_PATH"] = os.pathsep.join(p for p in (share, env.get("JUPYTER_PATH", "")) if p)
     env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    # one BLAS thread per kernel (unless the caller chose): every session is a kernel of its own, and on a 2-core
+    # machine the thread pools of several kernels fought for the cores (a ranking 1.5-2x slower under load,
+    # benchmarks/bench_dashboard.py, issue 16)
+    for name in BLAS_THREADS:
+        env.setdefault(name, "1")
     return env
 
 

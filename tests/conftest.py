@@ -13,7 +13,7 @@ import time
 from pathlib import Path
 
 import pytest
-from dashboard_page import CHROMIUM, CHROMIUM_ARGS
+from dashboard_page import BROKEN_WATCH_JS, CHROMIUM, CHROMIUM_ARGS, DRAWN_JS
 
 VIEWPORT = {"width": 1366, "height": 768}
 SCREENSHOTS = Path(__file__).resolve().parent.parent / "out" / "screenshots"
@@ -83,27 +83,26 @@ def dashboard(browser, voila_server):
     page.close()
 
 
-def open_dashboard(browser, url: str, timeout_ms: int = 60_000):
-    """A new page at 1366x768 on the dashboard, returned once the first ranking is visible.
+def open_dashboard(browser, url: str, timeout_ms: int = 60_000, viewport: dict | None = None):
+    """A new page (1366x768 unless `viewport` says otherwise) on the dashboard, returned once the first ranking and
+    its pictures are shown. The page watches its pictures from the start (``window.__cm_broken``, see
+    dashboard_page.BROKEN_WATCH_JS).
 
-    One retry: about one page load in ten never shows its first cross-section (measured in issue 13, cause still
-    open: suspected a race between the picture thread and the page's widget state). A second stall fails."""
-    try:
-        return _open_dashboard(browser, url, timeout_ms)
-    except Exception as e:  # playwright's TimeoutError
-        print(f"\ndashboard load stalled ({type(e).__name__}); one retry")
-        return _open_dashboard(browser, url, timeout_ms)
+    Issue 13 saw about one load in ten never show its first cross-section: the pictures were drawn by a thread of
+    their own that raced the page's first fetch of the widget states. They are now drawn on a click the page sends
+    once it has its widgets (issue 16), so there is no retry: a stalled load fails."""
+    return _open_dashboard(browser, url, timeout_ms, viewport or VIEWPORT)
 
 
-def _open_dashboard(browser, url: str, timeout_ms: int):
-    page = browser.new_page(viewport=VIEWPORT)
+def _open_dashboard(browser, url: str, timeout_ms: int, viewport: dict):
+    page = browser.new_page(viewport=viewport)
+    page.add_init_script(BROKEN_WATCH_JS)
     try:
         page.set_default_timeout(timeout_ms)
         t0 = time.monotonic()
         page.goto(url, timeout=timeout_ms)
         page.wait_for_selector(".cm-lead-text", state="visible", timeout=timeout_ms)
-        page.wait_for_function("() => { const i = document.querySelector('img.cm-section');"
-                               " return i && i.complete && i.naturalWidth > 0; }", timeout=timeout_ms)
+        page.wait_for_function(DRAWN_JS, timeout=timeout_ms)
     except Exception:
         page.close()
         raise

@@ -21,6 +21,31 @@ def browser_missing() -> str:
     return ""
 
 
+# The page is ready when the leader is shown; its pictures are drawn when the caption under them no longer says
+# "drawing" (until then each picture's place holds an SVG placeholder, never an empty or broken image).
+READY_JS = "() => { const t = document.querySelector('.cm-lead-text'); return t && t.offsetParent !== null; }"
+DRAWN_JS = ("() => { const c = document.querySelector('.cm-pic-caption'); const i = document.querySelector("
+            "'img.cm-section'); return c && c.textContent && !c.textContent.includes('drawing') && i && i.complete"
+            " && i.naturalWidth > 0; }")
+# Installed before the page loads (page.add_init_script): from the moment the page is ready, every 10 ms, each
+# picture of the app is checked; an <img> that has finished loading with no picture (or has no source) is broken
+# and is recorded in window.__cm_broken.
+BROKEN_WATCH_JS = """(() => {
+  window.__cm_broken = []; window.__cm_checks = 0;
+  const tick = () => {
+    const t = document.querySelector('.cm-lead-text');
+    if (t && t.offsetParent !== null) {
+      window.__cm_checks += 1;
+      for (const img of document.querySelectorAll('img.cm-pic')) {
+        if (!img.getAttribute('src') || (img.complete && img.naturalWidth === 0))
+          window.__cm_broken.push([performance.now(), img.className, img.getAttribute('src') || '']);
+      }
+    }
+  };
+  setInterval(tick, 10);
+})();"""
+
+
 def cell_sel(mod: str, side: str, derm: str) -> str:
     """CSS selector of one dermatome cell."""
     return f".cm-cell-{mod}-{side}-{derm}"

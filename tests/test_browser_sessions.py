@@ -60,15 +60,11 @@ def server(browser):
     s.stop()
 
 
-STALL = ("open: on this 2-core machine 1 to 4 of 20 back-to-back loads never showed the ranking within 90 s "
-         "(measured 2 runs of 3; cause not yet found: culler, beforeunload shutdown or the page itself); each stall "
-         "costs 90 s of CI, so the test is skipped until the cause is fixed; benchmarks/bench_sessions.py measures")
-
-
-@pytest.mark.skip(reason=STALL)
 def test_twenty_loads_and_closes_leave_at_most_two_kernels(browser, server):
     """Every page load starts a kernel (about 290 MB). Half the tabs close as a browser closes them (the page's
-    beforeunload call ends its kernel), half vanish without a word (their kernel is culled once idle)."""
+    beforeunload call ends its kernel), half vanish without a word (their kernel is culled once idle). Every load
+    shows its ranking and pictures: issue 13 saw 1 to 4 of 20 stall, the pictures then drawn by a thread of their
+    own that raced the page's first fetch of the widget states; they are now drawn on the page's own click."""
     peak, times, stalled = 0, [], []
     for i in range(LOADS):
         try:
@@ -82,7 +78,7 @@ def test_twenty_loads_and_closes_leave_at_most_two_kernels(browser, server):
             continue
         peak = max(peak, len(kernel_pids(server.proc.pid)))
         page.close(run_before_unload=bool(i % 2))
-    assert len(stalled) <= 1, f"{stalled}; load times {times}"
+    assert not stalled, f"{stalled}; load times {times}"
     deadline = time.monotonic() + IDLE + 4 * CULL_EVERY + 20
     while len(kernel_pids(server.proc.pid)) > 0 and time.monotonic() < deadline:
         time.sleep(1)
@@ -108,7 +104,9 @@ def test_error_pages_carry_no_traceback(server):
         assert status >= 400 and "Traceback" not in body and 'File "' not in body, (path, status, body[:200])
 
 
-@pytest.mark.xfail(strict=False, reason="its first page load can stall as above (failed once in a full run)")
+@pytest.mark.xfail(strict=False, reason=(
+    "open: closing the first page (run_before_unload) left its kernel alive past the 20 s wait here, so the second "
+    "load got the 503 page (measured on main db16c8d too; the retry open_dashboard had until issue 16 hid it)"))
 def test_full_server_answers_with_a_page_that_says_so(browser):
     s = Server(max_sessions=1)
     try:

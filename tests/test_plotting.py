@@ -104,37 +104,36 @@ def _predicted():
     return simulate(Lesion("hemisection", "left", "T6"))
 
 
-def test_disagreements_list_exactly_the_changed_items():
-    pred = _predicted()
-    assert P.disagreements(pred, pred) == []
-    t10 = pred.get(("sensory", "pinprick", "right", "T10"))
-    l3 = pred.get(("motor", "left", "L3"))
-    entered = pred.replace({("sensory", "pinprick", "right", "T10"): (t10 + 1) % 3,
-                            ("motor", "left", "L3"): (l3 + 2) % 6,
-                            ("sensory", "vibration", "right", "T10"): 0})  # another modality: not on this map
-    got = P.disagreements(entered, pred)
-    assert got == [("motor", "left", "L3", (l3 + 2) % 6, l3),
-                   ("sensory", "right", "T10", (t10 + 1) % 3, t10)]
-    # not examined (missing or NT) is never a disagreement
-    sparse = entered.replace({("motor", "left", "L3"): "NT"}, remove=[("sensory", "pinprick", "right", "T10")])
-    assert P.disagreements(sparse, pred) == []
-    assert P.disagreements(None, pred) == []
-
-
-def test_body_map_frames_every_disagreement():
+def test_body_picture_rings_exactly_the_conflicts_it_is_given():
+    """What counts as a conflict is the ranking's decision (`hypotheses.agreement`); the picture rings those items
+    of the sensation it shows and of the key muscles, given as keys or as (key, entered, predicted) triples."""
     pred = _predicted()
     entered = pred.replace({("sensory", "pinprick", "left", "C4"): 0, ("motor", "right", "C7"): 1})
-    for e, expected in ((entered, 2), (pred, 0)):
-        fig = P.draw_body_map(e, pred)
-        marks = [c for ax in fig.axes for c in ax.collections if c.get_gid() == "disagreements"]
-        assert len(marks) == 1 and len(marks[0].get_paths()) == expected == len(P.disagreements(e, pred))
-    # and the frames show: the picture with disagreements differs from the one without
-    assert not np.array_equal(_decode(P.body_map_png(entered, pred)), _decode(P.body_map_png(pred, pred)))
+    conflicts = ((("sensory", "pinprick", "left", "C4"), 0, 2), (("motor", "right", "C7"), 1, 5),
+                 (("sensory", "vibration", "left", "C4"), 0, 2))  # another sensation: not in this picture
+    for given, expected in ((conflicts, 2), ([c[0] for c in conflicts], 2), ((), 0)):
+        fig = P.draw_body_map(entered, pred, conflicts=given)
+        marks = [c for ax in fig.axes for c in ax.collections if c.get_gid() == "conflicts"]
+        assert len(marks) == 1 and len(marks[0].get_paths()) == expected
+    # and the rings show: the picture with them differs from the one without
+    assert not np.array_equal(_decode(P.body_map_png(entered, pred, conflicts=conflicts)),
+                              _decode(P.body_map_png(entered, pred)))
+
+
+def test_body_picture_legend_is_clear_of_the_caution():
+    """Every text of the body picture lies above the caution line at the foot (none drawn over it)."""
+    fig = P.draw_body_map(_predicted(), _predicted())
+    fig.canvas.draw()
+    r = fig.canvas.get_renderer()
+    caution = next(t for t in fig.texts if t.get_text() == DECISION_SUPPORT).get_window_extent(r)
+    others = [t for ax in fig.axes for t in ax.texts] + [t for t in fig.texts if t.get_text() != DECISION_SUPPORT]
+    for t in others:
+        assert t.get_window_extent(r).y0 > caution.y1, t.get_text()
 
 
 def test_bad_arguments_are_named():
     with pytest.raises(CordmapError, match="modality"):
-        P.disagreements(Findings(), Findings(), modality="smell")
+        P.draw_body_map(Findings(), Findings(), modality="smell")
     with pytest.raises(CordmapError, match="segment"):
         P.section_png("T13")
 

@@ -13,7 +13,8 @@ from cordmap import cautions, demo  # noqa: E402
 from cordmap.anatomy import MODALITIES, SIDES, anatomy  # noqa: E402
 from cordmap.findings import Findings, item_values  # noqa: E402
 from widgets import MAX_UPLOAD, ExamApp  # noqa: E402
-from widgets.app import _from_option, _options  # noqa: E402
+from widgets.labels import from_option as _from_option  # noqa: E402
+from widgets.labels import options as _options  # noqa: E402
 
 
 @pytest.fixture(scope="module")
@@ -42,9 +43,9 @@ def test_opens_on_demo_with_ranking_and_pictures(app):
     assert app.ranking.hypotheses
     assert not app.errors
     h = app.ranking.hypotheses[0]
-    assert h.lesion.describe() in app.lead.value
-    assert bytes(app.section_img.value).startswith(b"\x89PNG")
-    assert bytes(app.body_img.value).startswith(b"\x89PNG")
+    assert h.lesion.describe() in app.hypotheses.lead.value
+    assert bytes(app.pictures.section_img.value).startswith(b"\x89PNG")
+    assert bytes(app.pictures.body_img.value).startswith(b"\x89PNG")
     # invented demo: weak left leg, numb right leg, the leading candidate is on the left at a thoracic level
     assert h.lesion.side == "left" and h.lesion.top.startswith("T")
 
@@ -55,8 +56,8 @@ def test_same_exam_lesions_are_named_with_their_hypothesis(app):
     h = app.ranking.hypotheses[0]
     assert h.same_exam
     other = h.same_exam[0].describe()
-    assert "same predicted exam" in app.facts.value and other in app.facts.value
-    assert other in app.rows[0][2].value
+    assert "same predicted exam" in app.hypotheses.facts.value and other in app.hypotheses.facts.value
+    assert other in app.hypotheses.rows[0][2].value
 
 
 def test_cautions_always_present(app):
@@ -101,29 +102,29 @@ def test_entries_change_the_leading_hypothesis(app):
     after = lead(app)
     assert after != before
     assert after.side == "right" and after.top.startswith("T")
-    assert app.lead.value.count(after.describe()) == 1
+    assert app.hypotheses.lead.value.count(after.describe()) == 1
 
 
 def test_selecting_a_hypothesis_changes_the_cross_section(app):
-    first = bytes(app.section_img.value)
-    facts0 = app.facts.value
+    first = bytes(app.pictures.section_img.value)
+    facts0 = app.hypotheses.facts.value
     # pick a row whose lesion differs in level or pattern from the first
     hyps = app.ranking.hypotheses
     i = next(i for i, h in enumerate(hyps) if (h.lesion.top, h.lesion.pattern) != (hyps[0].lesion.top,
                                                                                    hyps[0].lesion.pattern))
-    app.rows[i][1].click()
+    app.hypotheses.rows[i][1].click()
     assert app.selected == i
-    assert "cm-selected" in app.rows[i][0]._dom_classes
-    assert "cm-selected" not in app.rows[0][0]._dom_classes
-    assert bytes(app.section_img.value) != first
-    assert app.facts.value != facts0
-    assert ", ".join(hyps[i].vertebral_levels) in app.facts.value
+    assert "cm-selected" in app.hypotheses.rows[i][0]._dom_classes
+    assert "cm-selected" not in app.hypotheses.rows[0][0]._dom_classes
+    assert bytes(app.pictures.section_img.value) != first
+    assert app.hypotheses.facts.value != facts0
+    assert ", ".join(hyps[i].vertebral_levels) in app.hypotheses.facts.value
 
 
 def test_body_map_follows_the_entries(app):
-    before = bytes(app.body_img.value)
+    before = bytes(app.pictures.body_img.value)
     app.set_level("T2", 0, "pinprick", "both")
-    assert bytes(app.body_img.value) != before
+    assert bytes(app.pictures.body_img.value) != before
 
 
 def test_next_tests_change_and_goto_rings_the_cell(app):
@@ -132,7 +133,7 @@ def test_next_tests_change_and_goto_rings_the_cell(app):
     assert app._commit(Findings({k: v for k, v in demo.case().items.items() if k[0] == "motor"}))
     tests0 = [t.item for t in app.ranking.next_tests]
     assert tests0, "the motor exam alone leaves items unexamined, so there are tests to suggest"
-    b = app.next_buttons[0]
+    b = app.next_tests.buttons[0]
     assert app.ranking.next_tests[0].finding in b.description
     app.tabs.selected_index = 2
     b.click()
@@ -147,7 +148,7 @@ def test_next_tests_change_and_goto_rings_the_cell(app):
     assert key not in [t.item for t in app.ranking.next_tests]
     # only one ring at a time
     if app.ranking.next_tests:
-        app.next_buttons[0].click()
+        app.next_tests.buttons[0].click()
         assert "cm-target" not in target._dom_classes or app.ranking.next_tests[0].item == key
 
 
@@ -178,9 +179,9 @@ def test_motor_reflex_sign_and_phase_widgets(app):
     assert app.findings.get(("sign", "bladder", "")) == "retention"
     app.entry[("sign", "horner", "left")].value = "yes"
     assert app.findings.get(("sign", "horner", "left")) is True
-    app.phase.value = "acute"
+    app.sacral.phase.value = "acute"
     assert app.findings.phase == "acute"
-    assert "acute" in app.case_label.value
+    assert "acute" in app.files.case_label.value
     assert not app.errors
 
 
@@ -189,22 +190,22 @@ def test_poor_fit_verdict_is_shown(app):
     items = {("sensory", m, s, d): 0 for m in MODALITIES for s in SIDES for d in anatomy().dermatomes}
     items.update({("motor", s, m): 5 for s in SIDES for m in anatomy().key_myotomes})
     items.update({("sign", "voluntary_anal_contraction", ""): True, ("sign", "diaphragm", ""): "normal"})
-    app._commit(Findings(items))
+    app.commit(Findings(items))
     if app.ranking.fit == "poor":
-        assert app.poor.layout.display != "none"
-        assert "Poor fit" in app.poor.value
-    app._commit(demo.case())
+        assert app.hypotheses.poor.layout.display != "none"
+        assert "Poor fit" in app.hypotheses.poor.value
+    app.commit(demo.case())
     assert app.ranking.fit == "good"
-    assert app.poor.layout.display == "none"
+    assert app.hypotheses.poor.layout.display == "none"
 
 
 def test_label_is_escaped_everywhere(app):
     doc = demo.case().to_dict()
     doc["label"] = "<script>alert('x')</script><img src=x onerror=alert(1)>"
     assert app.load(json.dumps(doc).encode("utf-8"), name="<b>evil</b>.json")
-    for w in (app.case_label, app.status, app.lead, app.facts, app.error):
+    for w in (app.files.case_label, app.files.status, app.hypotheses.lead, app.hypotheses.facts, app.error):
         assert "<script" not in w.value and "<img" not in w.value and "<b>evil" not in w.value
-    assert "&lt;script&gt;" in app.case_label.value
+    assert "&lt;script&gt;" in app.files.case_label.value
     # an error message carrying user text is escaped too
     app.load(b'{"format": "cordmap-findings/1", "label": 3}', name="<script>x</script>.json")
     assert "<script>" not in app.error.value and "&lt;script&gt;" in app.error.value
@@ -212,10 +213,10 @@ def test_label_is_escaped_everywhere(app):
 
 def test_upload_valid_file(app):
     f = demo.case("sacral-saddle")
-    app.upload.value = upload_value("saddle.json", f.to_json().encode())
+    app.files.upload.value = upload_value("saddle.json", f.to_json().encode())
     assert not app.errors
     assert app.findings == f
-    assert app.upload.value == ()
+    assert app.files.upload.value == ()
 
 
 @pytest.mark.parametrize("content, size, message", [
@@ -230,19 +231,19 @@ def test_upload_valid_file(app):
 def test_bad_uploads_are_rejected_and_change_nothing(app, content, size, message):
     app.click_cell("pinprick", "left", "C3")
     before_f, before_r = app.findings, app.ranking
-    before_img = bytes(app.section_img.value)
-    app.upload.value = upload_value("bad.json", content, size)
+    before_img = bytes(app.pictures.section_img.value)
+    app.files.upload.value = upload_value("bad.json", content, size)
     assert app.errors and message in app.errors[-1]
     assert app.error.layout.display != "none" and message.split()[0] in app.error.value
     assert app.findings is before_f and app.ranking is before_r
-    assert bytes(app.section_img.value) == before_img
-    assert app.upload.value == ()
+    assert bytes(app.pictures.section_img.value) == before_img
+    assert app.files.upload.value == ()
 
 
 def test_save_and_reload_round_trip(app):
     app.click_cell("vibration", "right", "L4")
-    app.save_btn.click()
-    assert "data:application/json;base64," in app.download.value
+    app.files.save_btn.click()
+    assert "data:application/json;base64," in app.files.download.value
     saved = app.save_document()
     other = ExamApp(demo.case("cervical-central"))
     assert other.load(saved.encode())
@@ -250,8 +251,9 @@ def test_save_and_reload_round_trip(app):
 
 
 def test_report_pdf_and_png(app):
-    app.report_btn.click()
-    assert "data:application/pdf;base64," in app.download.value and "cordmap-case.pdf" in app.download.value
+    app.files.report_btn.click()
+    assert "data:application/pdf;base64," in app.files.download.value
+    assert "cordmap-case.pdf" in app.files.download.value
     assert app.report_pdf().startswith(b"%PDF-")
     png = app.report_png()
     assert png.startswith(b"\x89PNG") and len(png) > 20_000
@@ -262,7 +264,7 @@ def test_callback_errors_are_shown_not_swallowed(app):
         raise RuntimeError("ranker broke")
 
     before = app.findings
-    app._ranker = broken
+    app.state.ranker_fn = broken
     app.entry[("sensory", "pinprick", "left", "C4")].click()  # through the guarded handler: must not raise
     assert "RuntimeError" in app.error.value  # named by its type; the traceback went to stderr
     assert app.findings == before
@@ -300,35 +302,35 @@ def test_random_clicks_never_raise_and_ranking_stays_consistent(base):
             w = app.entry[k]
             w.value = rng.choice([v for _l, v in w.options])
         elif r < 0.80:
-            app.level_from.value = rng.choice(anatomy().dermatomes)
-            app.level_mod.value = rng.choice([v for _l, v in app.level_mod.options])
-            app.set_level(app.level_from.value, rng.choice([0, 1]), app.level_mod.value,
+            app.sensation.level_from.value = rng.choice(anatomy().dermatomes)
+            app.sensation.level_mod.value = rng.choice([v for _l, v in app.sensation.level_mod.options])
+            app.set_level(app.sensation.level_from.value, rng.choice([0, 1]), app.sensation.level_mod.value,
                           rng.choice(["both", "left", "right"]))
         elif r < 0.85:
-            app.rows[rng.randrange(len(app.ranking.hypotheses))][1].click()
+            app.hypotheses.rows[rng.randrange(len(app.ranking.hypotheses))][1].click()
         elif r < 0.90:
             n = len(app.ranking.next_tests)
             if n:
-                app.next_buttons[rng.randrange(n)].click()
+                app.next_tests.buttons[rng.randrange(n)].click()
         elif r < 0.93:
-            app.phase.value = rng.choice(["acute", "chronic"])
+            app.sacral.phase.value = rng.choice(["acute", "chronic"])
         elif r < 0.95:
-            app.demo_pick.value = rng.choice(demos)
+            app.files.demo_pick.value = rng.choice(demos)
         elif r < 0.97:
             app.fill_normal(rng.choice(["all", *MODALITIES]))
         else:
-            app.map_mod.value = rng.choice([v for _l, v in app.map_mod.options])
+            app.pictures.map_mod.value = rng.choice([v for _l, v in app.pictures.map_mod.options])
         assert not app.errors, f"step {step}: {app.errors}"
         rk = app.ranking
         if rk.fit == "empty":  # everything cleared: no hypotheses, and the page says so
-            assert not rk.hypotheses and "Nothing entered" in app.poor.value
+            assert not rk.hypotheses and "Nothing entered" in app.hypotheses.poor.value
             continue
         probs = [h.probability for h in rk.hypotheses]
         assert rk.hypotheses and all(0 <= p <= 1 for p in probs)
         assert probs == sorted(probs, reverse=True)
         assert [h.rank for h in rk.hypotheses] == list(range(1, len(probs) + 1))
         assert rk.fit in ("good", "poor", "normal")
-        assert rk.hypotheses[0].lesion.describe() in app.lead.value
+        assert rk.hypotheses[0].lesion.describe() in app.hypotheses.lead.value
         assert 0 <= app.selected < len(rk.hypotheses)
         # the widgets show the state
         for k in rng.sample(keys, 20):
@@ -342,20 +344,47 @@ def test_random_clicks_never_raise_and_ranking_stays_consistent(base):
         assert all(t.item not in app.findings.items for t in rk.next_tests)
 
 
-def test_dashboard_draws_its_pictures_after_opening():
-    """The dashboard opens with the ranking and draws the two pictures afterwards (in a thread under Voila)."""
+def test_dashboard_draws_its_pictures_when_the_page_has_its_widgets():
+    """The dashboard opens with the ranking and placeholders (an SVG that says the picture is being drawn, never an
+    empty image); the pictures come when the page clicks the hidden button cm-ready, in the kernel's own thread."""
     import threading
 
     from widgets import dashboard
 
     app = dashboard(pictures_in_background=False)
-    assert app.ranking.hypotheses and bytes(app.section_img.value) and bytes(app.body_img.value)
+    assert app.ranking.hypotheses and bytes(app.pictures.section_img.value).startswith(b"\x89PNG")
     app = dashboard()
-    for t in threading.enumerate():
-        if t.name == "cordmap-pictures":
+    for t in threading.enumerate():  # it draws into the caches only: the widgets wait for the page's click
+        if t.name == "cordmap-pictures-prepare":
             t.join(60)
-    assert bytes(app.section_img.value)[:8] == b"\x89PNG\r\n\x1a\n" and bytes(app.body_img.value)
+    for img in (app.pictures.section_img, app.pictures.body_img):
+        assert img.format == "svg+xml" and b"drawing the" in bytes(img.value)
+    assert "drawing" in app.pictures.caption.value
+    app.pictures.ready.click()
+    for img in (app.pictures.section_img, app.pictures.body_img):
+        assert img.format == "png" and bytes(img.value)[:8] == b"\x89PNG\r\n\x1a\n"
     assert not app.errors
+
+
+def test_every_panel_module_is_short_and_imports_no_app():
+    """One file per panel, none over 300 lines; a panel never imports the app (the app assembles them)."""
+    from pathlib import Path
+
+    import widgets
+
+    for path in Path(widgets.__file__).parent.glob("*.py"):
+        text = path.read_text()
+        assert len(text.splitlines()) <= 300, path.name
+        if path.name.endswith("_panel.py"):
+            assert "from .app" not in text and "import app" not in text, path.name
+
+
+def test_body_picture_marks_the_rankings_conflicts(app):
+    """The caption counts what the ranking calls a conflict: one rule (`cordmap.hypotheses.agreement`)."""
+    h = app.ranking.hypotheses[app.selected]
+    n = len(h.conflict_items)
+    assert (f"{n} conflict" in app.pictures.caption.value) if n else ("no conflict" in app.pictures.caption.value)
+    assert (f"{n} conflict" in h.summary) if n else ("no conflicts" in h.summary)
 
 
 def test_an_internal_fault_sends_no_traceback_to_the_page(app, capsys):
@@ -364,7 +393,7 @@ def test_an_internal_fault_sends_no_traceback_to_the_page(app, capsys):
     def broken(*a, **k):
         raise RuntimeError("secret internal detail\n  File \"/srv/x.py\", line 1")
     before = lead(app)
-    app._ranker = broken
+    app.state.ranker_fn = broken
     app.load_demo("sacral-saddle")
     assert lead(app) == before  # the state is unchanged
     shown = app.error.value
@@ -385,5 +414,33 @@ def test_upload_template_guard_matches_the_limit():
 
 def test_an_upload_reported_over_the_limit_gets_a_message(app):
     before = lead(app)
-    app.upload.value = upload_value("huge.json", b"", size=50_000_000)
+    app.files.upload.value = upload_value("huge.json", b"", size=50_000_000)
     assert "50,000,000 bytes is over the 1 MB limit" in app.errors[-1] and lead(app) == before
+
+
+def test_labels_are_in_a_clinicians_words(app):
+    """Labels issue 16 replaced stay gone; S4-5 is written as the standard writes it (ISNCSCI worksheet, 2019)."""
+    import ipywidgets as W
+
+    texts, stack, seen = [], [app.widget], set()
+    while stack:
+        w = stack.pop()
+        if id(w) in seen:
+            continue
+        seen.add(id(w))
+        for attr in ("description", "value", "tooltip"):
+            v = getattr(w, attr, None)
+            if isinstance(v, str):
+                texts.append(v)
+        if isinstance(w, W.Tab):
+            texts += list(w.titles)
+        if isinstance(w, W.Dropdown):
+            texts += list(w._options_labels)
+        stack += list(getattr(w, "children", ()))
+    page = "\n".join(texts)
+    for gone in ("Sensation ribbons", "S45", "rest normal", "set, and all below", "voluntary anal squeeze",
+                 "Open file", "Segment ladder"):
+        assert gone not in page, gone
+    assert app.pictures.map_mod.description != "map"
+    assert ">S4-5<" in app.sensation.widget.children[0].value
+    assert "voluntary anal contraction" in page

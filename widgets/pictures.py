@@ -1,11 +1,12 @@
 """PNG pictures for the app, from `cordmap.plotting`, cached; a plain stand-in while plotting is unavailable."""
 from __future__ import annotations
 
+import html
 import io
 from functools import lru_cache
 
-SECTION_SIZE = (280, 240)
-BODY_SIZE = (280, 240)
+SECTION_SIZE = (250, 230)
+BODY_SIZE = (490, 230)
 
 
 def _plotting(name: str):
@@ -39,39 +40,38 @@ _BODY_CACHE: dict = {}
 _BODY_CACHE_MAX = 64
 
 
-def body_map(entered, predicted, modality: str = "pinprick", size: tuple[int, int] = BODY_SIZE) -> bytes:
-    """The body map, cached by what it shows: the entered items of `modality` and the muscles (a click on
-    another modality's cell redraws nothing), the prediction and the size."""
-    shown = frozenset((k, v) for k, v in entered.items.items()
-                      if k[0] == "motor" or (k[0] == "sensory" and k[1] == modality))
-    key = (shown, predicted, modality, size)
+def body_map(entered, predicted, modality: str = "pinprick", conflicts: tuple = (),
+             size: tuple[int, int] = BODY_SIZE) -> bytes:
+    """The body picture, cached by what it shows: the entered items of `modality` and the muscles (a click on
+    another sensation's cell redraws nothing), the prediction, the conflicts it marks and the size. `conflicts`:
+    (item, entered, predicted) triples, the ranking's (`Hypothesis.conflict_items`)."""
+    def shown_here(k):
+        return k[0] == "motor" or (k[0] == "sensory" and k[1] == modality)
+
+    shown = frozenset((k, v) for k, v in entered.items.items() if shown_here(k))
+    marks = tuple(sorted({c[0] for c in conflicts if shown_here(c[0])}))
+    key = (shown, predicted, modality, marks, size)
     png = _BODY_CACHE.get(key)
     if png is None:
         if len(_BODY_CACHE) >= _BODY_CACHE_MAX:
             _BODY_CACHE.pop(next(iter(_BODY_CACHE)))
-        png = _BODY_CACHE[key] = _draw_body_map(entered, predicted, modality, size)
+        fn = _plotting("body_map_png")
+        png = _BODY_CACHE[key] = (_stand_in(f"body picture ({modality})", size) if fn is None else
+                                  fn(entered, predicted, modality=modality, size=size, conflicts=marks))
     return png
-
-
-def _draw_body_map(entered, predicted, modality: str, size: tuple[int, int]) -> bytes:
-    fn = _plotting("body_map_png")
-    if fn is None:
-        return _stand_in(f"body map ({modality})", size)
-    try:
-        return fn(entered, predicted, modality=modality, size=size)
-    except TypeError:  # a plotting module without the size keyword
-        return fn(entered, predicted, modality=modality)
-
-
-@lru_cache(maxsize=64)
-def disagreements(entered, predicted) -> tuple:
-    fn = _plotting("disagreements")
-    if fn is None:
-        return tuple(k for k, v in entered.items.items() if v != "NT" and predicted.items.get(k, v) != v)
-    return tuple(fn(entered, predicted))
 
 
 @lru_cache(maxsize=128)
 def predicted(hypothesis):
     """The simulated findings of a hypothesis (cached: the same lesion is shown again and again)."""
     return hypothesis.predicted()
+
+
+@lru_cache(maxsize=8)
+def placeholder(what: str, size: tuple[int, int]) -> bytes:
+    """An SVG that stands where a picture will be: a pale box saying it is being drawn (no plotting library)."""
+    w, h = size
+    return (f"<svg xmlns='http://www.w3.org/2000/svg' width='{w}' height='{h}' viewBox='0 0 {w} {h}'>"
+            f"<rect x='0.5' y='0.5' width='{w - 1}' height='{h - 1}' fill='#f4f6f9' stroke='#d5dbe3' "
+            f"stroke-dasharray='4 3'/><text x='{w / 2}' y='{h / 2}' font-family='sans-serif' font-size='13' "
+            f"fill='#5f6b78' text-anchor='middle'>drawing the {html.escape(what)}…</text></svg>").encode("utf-8")

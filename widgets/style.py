@@ -51,7 +51,7 @@ CSS = f"""
 .cm-striplabel .widget-html-content {{ font-size: 12px; color: {MUTED}; line-height: 20px; white-space: nowrap; }}
 .cm-dermhead .widget-html-content {{ font-size: 9px; color: {MUTED}; line-height: 12px; }}
 .cm-dermrow {{ display: flex; }}
-.cm-dermrow .cm-dh {{ width: 20px; min-width: 20px; text-align: center; }}
+.cm-dermrow .cm-dh {{ width: 20px; min-width: 20px; text-align: center; white-space: nowrap; letter-spacing: -0.3px; }}
 .cm-dermrow .cm-dh-gap {{ margin-left: 6px; }}
 .cm-dermrow .cm-dh-lead {{ width: 100px; min-width: 100px; }}
 .cm-stripgroup {{ margin-bottom: 3px; }}
@@ -70,7 +70,8 @@ CSS = f"""
 .cm-poor .widget-html-content {{ color: {PAPER}; font-weight: 600; }}
 .cm-specific .widget-html-content {{ color: {WARN_INK}; font-size: 12px; }}
 .cm-facts .widget-html-content {{ font-size: 12px; line-height: 1.35; }}
-.cm-next.widget-button {{ width: 100%; text-align: left; height: 24px; font-size: 12px; margin: 1px 0;
+.cm-next.widget-button {{ width: 100%; text-align: left; height: auto; min-height: 24px; font-size: 12px;
+  margin: 1px 0; padding: 3px 6px; line-height: 1.3; white-space: normal; overflow: visible; text-overflow: clip;
   background: {PAPER}; border: 1px solid {RULE}; }}
 .cm-next.widget-button:hover {{ border-color: {TARGET}; }}
 .cm-pic {{ border: 1px solid {RULE}; background: {PAPER}; }}
@@ -79,6 +80,12 @@ CSS = f"""
   margin: 0 3px 0 8px; font-size: 9px; text-align: center; line-height: 12px; }}
 .cm-app.cm-busy, .cm-app.cm-busy .widget-button {{ cursor: progress; }}
 .cm-app .widget-dropdown > select {{ font-size: 12px; }}
+.cm-upload.widget-upload, .cm-upload.jupyter-button {{ font-size: 0; }}
+.cm-upload.widget-upload::after, .cm-upload.jupyter-button::after {{ content: "Open findings…"; font-size: 13px; }}
+.cm-exam {{ flex: 0 0 auto; margin-right: 6px; }}
+.cm-hyps {{ flex: 1 1 auto; min-width: 0; }}
 .cm-app .widget-tab > .p-TabBar .p-TabBar-tab, .cm-app .lm-TabBar-tab {{ font-size: 13px; min-width: 120px; }}
+.cm-fill.widget-button {{ padding: 0 10px; }}
+.cm-pic-caption .widget-html-content {{ line-height: 1.35; }}
 </style>
 """
