@@ -130,7 +130,7 @@ def test_body_map_follows_the_entries(app):
 def test_next_tests_change_and_goto_rings_the_cell(app):
     # the demo's full exam leaves only what imaging can tell (no bedside test changes what is done): start from its
     # motor exam alone, which leaves the level and the side open
-    assert app._commit(Findings({k: v for k, v in demo.case().items.items() if k[0] == "motor"}))
+    assert app.commit(Findings({k: v for k, v in demo.case().items.items() if k[0] == "motor"}))
     tests0 = [t.item for t in app.ranking.next_tests]
     assert tests0, "the motor exam alone leaves items unexamined, so there are tests to suggest"
     b = app.next_tests.buttons[0]
