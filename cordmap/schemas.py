@@ -20,7 +20,7 @@ from pathlib import Path
 
 DRAFT = "https://json-schema.org/draft/2020-12/schema"
 BASE = "https://cordmap.invalid/schemas/"  # identifiers only: nothing is fetched from there
-NAMES = ("findings", "batch-line", "ranking", "classification")
+NAMES = ("findings", "batch-line", "ranking", "classification", "course")
 FOLDER = Path(__file__).resolve().parent / "data" / "schemas"
 
 
@@ -221,10 +221,33 @@ def _ranking() -> dict:
     }
 
 
+def _course() -> dict:
+    from .course import MAX_EXAMS, SINCE, TIME_UNITS
+
+    findings = {"type": "object", "required": ["format"], "properties": _findings_properties(),
+                "additionalProperties": False}
+    exam = {"type": "object", "required": ["time"],
+            "properties": {"time": {"type": "number", "minimum": 0,
+                                    "description": "hours or days (time_unit) since the reference point (since)"},
+                           "findings": {"$ref": "#/$defs/findings"},
+                           "file": {"type": "string", "minLength": 1,
+                                    "description": "a findings file, relative to the course file's folder"}},
+            "oneOf": [{"required": ["findings"]}, {"required": ["file"]}], "additionalProperties": False}
+    return {"$schema": DRAFT, "$id": BASE + "course.schema.json", "title": "cordmap course (cordmap-course/1)",
+            "description": "Serial exams of one anonymous patient, each at a time since onset or since the first "
+                           "exam; no dates, no identifiers. Two rules only the reader checks: times strictly "
+                           "increase, and no acute exam follows a chronic one.",
+            "type": "object", "required": ["format", "exams"],
+            "properties": {"format": {"const": "cordmap-course/1"}, "label": {"type": "string"},
+                           "time_unit": {"enum": list(TIME_UNITS)}, "since": {"enum": list(SINCE)},
+                           "exams": {"type": "array", "minItems": 1, "maxItems": MAX_EXAMS, "items": exam}},
+            "additionalProperties": False, "$defs": {"findings": findings}}
+
+
 def build(name: str) -> dict:
     """The schema `name` (one of NAMES) as built from the current tables."""
     makers = {"findings": _findings, "batch-line": _batch_line, "ranking": _ranking,
-              "classification": _classification}
+              "classification": _classification, "course": _course}
     if name not in makers:
         from .errors import bad_value
 

@@ -161,3 +161,24 @@ def test_outputs_validate():
     assert list(r_v.iter_errors(empty.to_dict())) == []
     assert not c_v.is_valid({**r.classification.to_dict(), "caution": ""})  # the caution is required
     assert not r_v.is_valid({**r.to_dict(), "cautions": []})
+
+
+def test_course_schema_and_reader_agree():
+    """The shipped demo course validates; documents the course reader refuses for their shape fail the schema too
+    (times out of order and acute-after-chronic are the reader's own checks, stated in the schema)."""
+    from importlib import resources
+
+    from cordmap.course import parse_course
+
+    v = validator("course")
+    demo = json.loads(resources.files("cordmap.data").joinpath("courses/demo-compression.json").read_text("utf-8"))
+    assert list(v.iter_errors(demo)) == []
+    first = demo["exams"][0]
+    bad = [{**demo, "exams": []}, {**demo, "time_unit": "weeks"}, {**demo, "extra": 1},
+           {**demo, "exams": [{"time": -1, "findings": first["findings"]}]},
+           {**demo, "exams": [{"time": 0}]},
+           {**demo, "exams": [{"time": 0, "findings": first["findings"], "file": "x.json"}]}]
+    for doc in bad:
+        with pytest.raises(CordmapError):
+            parse_course(doc)
+        assert not v.is_valid(doc)
