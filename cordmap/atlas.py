@@ -120,10 +120,18 @@ def variants() -> tuple[Variant, ...]:
 PARTIAL_MAX_EXTENT = 6
 
 
+# Longest extent tried for a central lesion that also takes the lateral columns (`columns` > 0): the traumatic
+# central cord syndrome and an expanding tumour reach the lateral columns over a few segments; a long syrinx is the
+# plain central pattern. Judgement; it keeps the atlas (and batch scoring) about a fifth smaller.
+COLUMNS_MAX_EXTENT = 8
+
+
 def _max_extent(v: Variant) -> int:
     pat = PATTERNS[v.pattern]
-    partial = not pat.single and dict(v.params).get("severity", 1.0) < 1.0
-    return min(pat.max_extent, PARTIAL_MAX_EXTENT) if partial else pat.max_extent
+    params = dict(v.params)
+    partial = not pat.single and params.get("severity", 1.0) < 1.0
+    longest = min(pat.max_extent, PARTIAL_MAX_EXTENT) if partial else pat.max_extent
+    return min(longest, COLUMNS_MAX_EXTENT) if params.get("columns", 0.0) > 0 else longest
 
 
 def enumerate_candidates(vs: tuple[Variant, ...]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -420,7 +420,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("posterolateral", "both dorsal columns and both dorsolateral funiculi (combined degeneration)",
             ("both",), _posterolateral,
             (_DEGENERATION, _NEUROPATHY,
-             Param("lateral", LATERAL_SHARE, (LATERAL_SHARE, 1.0), 0.1, 1.0,
+             Param("lateral", LATERAL_SHARE, (LATERAL_SHARE,), 0.1, 1.0,
                    "the dorsolateral columns' share of `severity` (below 1: they lag behind the dorsal columns)")),
             diffuse=True, atlas_tops=DEGENERATION_TOPS),
     Pattern("lateral_compression", "extrinsic pressure from one side, reaching inward with depth",

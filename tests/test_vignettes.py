@@ -58,12 +58,12 @@ def test_bad_case_names_the_value(tmp_path):
 
 def test_corpus_figures_hold(results):
     """Floors at the figures measured when the corpus came in and the model and ranker were reworked against it
-    (python benchmarks/bench_vignettes.py, 82 cases: top-1 83%, top-3 92%, windows 92%, two-lesion flags 67%,
+    (python benchmarks/bench_vignettes.py, 82 cases: top-1 85%, top-3 93%, windows 96%, two-lesion flags 67%,
     false alarms 6%, normal 100%): a change that makes the ranking worse on textbook cases fails here."""
     s = casebook.summary(results)
     print("\ncorpus:", {k: round(v, 3) if isinstance(v, float) else v for k, v in s.items()})
     assert s["normal_called_normal"] == 1.0
-    assert s["top1"] >= 0.81 and s["top3"] >= 0.89 and s["window"] >= 0.89
+    assert s["top1"] >= 0.83 and s["top3"] >= 0.91 and s["window"] >= 0.93
     assert s["two_lesion_flags"] >= 0.6 and s["false_alarms"] <= 0.07
 
 
