@@ -25,6 +25,7 @@ from .errors import CordmapError, bad_value
 from .findings import Findings, item_label
 from .hypotheses import _abnormal, _derived
 from .lesions import NORMAL, PATTERNS
+from .rank import _grade_word, _ranges
 
 FORMAT = "cordmap-course-report/1"
 RANK_MODES = ("leader", "full", "none")
@@ -238,27 +239,6 @@ def _conversion(a: Classification, b: Classification) -> str:
     return f"AIS {a.ais} -> {b.ais} ({abs(d)} grade{'s' * (abs(d) != 1)} {'better' if d > 0 else 'worse'})"
 
 
-def _ranges(derms: list[str]) -> str:
-    a = anatomy().dermatomes
-    idx = sorted(a.index(d) for d in derms)
-    parts, start = [], idx[0]
-    for p, q in zip(idx, [*idx[1:], None]):
-        if q is None or q != p + 1:
-            parts.append(a[start] if start == p else f"{a[start]}-{a[p]}")
-            start = q
-    return ", ".join(parts)
-
-
-def _value_word(key, v) -> str:
-    if key[0] == "sensory":
-        return ("absent", "impaired", "normal")[v]
-    if key[0] == "motor":
-        return f"grade {v}"
-    if isinstance(v, bool):
-        return "present" if v else "absent"
-    return str(v)
-
-
 def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[str, ...], tuple[str, ...], int]:
     appeared, resolved, changed = [], [], []
     groups: dict[tuple, list[str]] = {}
@@ -277,13 +257,13 @@ def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[
                 order.append(g)
             groups.setdefault(g, []).append(k[3])
             continue
-        words = f"{item_label(k)}: {_value_word(k, va)} -> {_value_word(k, vb)}"
+        words = f"{item_label(k)}: {_grade_word(k, va)} -> {_grade_word(k, vb)}"
         {"appeared": appeared, "resolved": resolved, "changed": changed}[kind].append(words)
     sensory: dict[str, list[str]] = {"appeared": [], "resolved": [], "changed": []}
     for g in order:
         kind, mod, side, va, vb = g
-        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {_value_word(('sensory',), va)}"
-                             f" -> {_value_word(('sensory',), vb)}")
+        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {_grade_word(('sensory',), va)}"
+                             f" -> {_grade_word(('sensory',), vb)}")
     return (tuple(sensory["appeared"] + appeared), tuple(sensory["resolved"] + resolved),
             tuple(sensory["changed"] + changed), len(keys) - len(both))
 

@@ -27,7 +27,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from functools import cache
 
-from .anatomy import _table, anatomy, cord_region
+from .anatomy import CORD_REGIONS, _table, anatomy, cord_region
 from .errors import CordmapError
 from .lesions import NORMAL, PATTERNS, Lesion
 
@@ -194,10 +194,9 @@ def _diffuse_window(lesion: Lesion) -> tuple[Window, ...]:
     a = anatomy()
     region = cord_region(lesion.top_index)
     first, last = (a.index(s) for s in _REGIONS[region])
-    names = ("cervical", "thoracic", "lumbosacral")
     return (Window(tuple(_vertebrae(first, last)),
-                   f"a diffuse degeneration has no one level: image the {names[region]} cord, where its signs begin, "
-                   f"and below, for what it shows and for a compression that mimics it"),)
+                   f"a diffuse degeneration has no one level: image the {CORD_REGIONS[region]} cord, where its signs "
+                   f"begin, and below, for what it shows and for a compression that mimics it"),)
 
 
 def windows(lesion: Lesion) -> tuple[Window, ...]:
