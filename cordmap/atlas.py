@@ -124,6 +124,13 @@ PARTIAL_MAX_EXTENT = 6
 # central cord syndrome and an expanding tumour reach the lateral columns over a few segments; a long syrinx is the
 # plain central pattern. Judgement; it keeps the atlas (and batch scoring) about a fifth smaller.
 COLUMNS_MAX_EXTENT = 8
+# Longest extent tried for a central lesion that destroys most of the cross-section (size above
+# WIDE_CENTRAL_SIZE): over more than a few segments such a lesion is a longitudinally extensive transverse myelitis
+# (the complete pattern, which may be long); a syrinx that spans many segments is a slim cavity around the canal.
+# From memory (standard neurology teaching on syringomyelia and transverse myelitis); the cap is judgement. Without
+# it, a very large central lesion from C7 to the sacral cord, destroying each segment's gray matter, mimicked an
+# acute incomplete cervical injury's absent pinprick below the level and its sacral sparing.
+WIDE_CENTRAL_SIZE, WIDE_CENTRAL_MAX_EXTENT = 0.5, 8
 
 
 def _max_extent(v: Variant) -> int:
@@ -131,6 +138,8 @@ def _max_extent(v: Variant) -> int:
     params = dict(v.params)
     partial = not pat.single and params.get("severity", 1.0) < 1.0
     longest = min(pat.max_extent, PARTIAL_MAX_EXTENT) if partial else pat.max_extent
+    if params.get("size", 0.0) > WIDE_CENTRAL_SIZE:
+        longest = min(longest, WIDE_CENTRAL_MAX_EXTENT)
     return min(longest, COLUMNS_MAX_EXTENT) if params.get("columns", 0.0) > 0 else longest
 
 

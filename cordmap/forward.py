@@ -223,6 +223,7 @@ SENSORY_THRESHOLDS = (0.2, 0.75)  # loss below 0.2: normal; 0.75 and above: abse
 # evolving myelopathy, so the release threshold lies below the weakness ramp (model convention; common clinical
 # practice, no source).
 UMN_THRESHOLD = 0.2
+SHOCK_LOSS = 0.3  # share of the descending fibres to the legs whose sudden loss brings spinal shock (judgement)
 ARC_ABSENT, ARC_REDUCED = 0.5, 0.2
 # The plantar response is a cutaneous reflex over three segments (L5-S2): it stays (flexor, or extensor above a
 # corticospinal lesion) until most of its arc is gone. Extensor plantars with absent ankle jerks are the classic
@@ -350,7 +351,14 @@ def _signs(L, acute) -> dict:
     signs[("deep_anal_pressure", "")] = np.where(dap_loss < 0.5, 0, 1).astype(np.int8)
     bc_arc = 0.5 * (_arc(L, 0, sacral) + _arc(L, 1, sacral))
     bc_umn = np.minimum(_umn(L, 0, {j: 1 / 3 for j in sacral}), _umn(L, 1, {j: 1 / 3 for j in sacral}))
-    bc_absent = (bc_arc >= ARC_ABSENT) | (acute & (bc_umn >= 0.5))
+    # Spinal shock: in the first days after a sudden lesion that cuts a good part (SHOCK_LOSS) of the descending
+    # fibres to the lumbosacral cord, the sacral reflexes and the detrusor fall silent (bulbocavernosus absent,
+    # retention), whichever of those fibres the lesion's shape spares: an acute central cord injury keeps sacral
+    # sensation and walks yet retains urine (from memory; Ditunno et al., Spinal shock revisited: a four-phase
+    # model, Spinal Cord 2004; Schneider et al., J Neurosurg 1954, on the acute central cord syndrome).
+    legs = {j: 1 / 6 for j in range(a.index("L2"), a.index("S3") + 1)}
+    shock = acute & (0.5 * (_umn(L, 0, legs) + _umn(L, 1, legs)) >= SHOCK_LOSS)
+    bc_absent = (bc_arc >= ARC_ABSENT) | (acute & (bc_umn >= 0.5)) | shock
     signs[("bulbocavernosus", "")] = np.where(bc_absent, 1, 0).astype(np.int8)
     spn = sum(0.5 * _comb(_get(L, "sacral_parasympathetic", sd, j), _get(L, "ventral_root", sd, j))
               for sd in (0, 1) for j in range(a.index("S2"), a.index("S4") + 1)) / 3
@@ -359,7 +367,8 @@ def _signs(L, acute) -> dict:
     signs[("bladder", "")] = np.where(spn >= 0.5, bladder.index("retention"),
                                       np.where(bl_umn >= 0.5, np.where(acute, bladder.index("retention"),
                                                                        bladder.index("urgency")),
-                                               bladder.index("normal"))).astype(np.int8)
+                                               np.where(shock, bladder.index("retention"),
+                                                        bladder.index("normal")))).astype(np.int8)
     dia = a.muscle_weights["diaphragm"]
     dia_loss = np.maximum(*[_comb(_umn(L, sd, dia), _lmn(L, sd, dia)) for sd in (0, 1)])
     signs[("diaphragm", "")] = np.where(dia_loss >= 0.4, 1, 0).astype(np.int8)
