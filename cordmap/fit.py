@@ -37,13 +37,13 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) ->
     return float(w @ m[sel]), float((w * w) @ (m2[sel] - m[sel] ** 2))
 
 
-def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, ll: np.ndarray, firsts: np.ndarray
-              ) -> tuple[int, int, float]:
+def best_pair(at, items: list[tuple], recorded_values: list, raw: np.ndarray, w: np.ndarray, ll: np.ndarray,
+              firsts: np.ndarray) -> tuple[int, int, float]:
     """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
     (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
     normal item (a second lesion adds its own findings; it is not used to deepen the first one's), so adding j to
-    i changes the fit by the (weighted) log-probabilities `seen` of those items. Returns (i, j, log-likelihood of
-    the pair)."""
+    i changes the fit by the log-probabilities `raw` (examined x candidates) of those items, weighted by `w`.
+    Returns (i, j, log-likelihood of the pair)."""
     rows = np.array([at.item_index[k] for k in items])
     lead = int(firsts[0])
     best = (lead, lead, float(ll[lead]))  # no second lesion: the single best
@@ -65,7 +65,8 @@ def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, l
         z = (at.abnormal[np.ix_(rows, group)] == 0).T.astype(np.float32)  # (group, examined): i predicts normal
         # gain[k, j]: the change in fit from adding cols[j] to group[k], over the items group[k] predicts normal
         # and cols[j] not
-        gain = z @ (seen[:, cols] * pos) - (z * seen[:, group].T) @ pos
+        seen = raw[:, cols] * w[:, None]  # weighted log-probability of each recorded value
+        gain = z @ (seen * pos) - (z * (raw[:, group] * w[:, None]).T) @ pos
         for k, i in enumerate(group):
             g = np.where(separate(at, int(i))[cols], gain[k], -np.inf)
             j = int(g.argmax())
@@ -136,15 +137,16 @@ def _masks(at) -> _Masks:
     return hit[1]
 
 
-def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,
+def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, raw: np.ndarray, ll: np.ndarray,
                leaders: np.ndarray) -> tuple[str, int, float]:
     """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
-    what the pair gains in (weighted) nats over the best single lesion. `seen` holds the weighted log-probability
-    of each recorded value (examined x candidates); `leaders` the best member of each leading hypothesis."""
+    what the pair gains in (weighted) nats over the best single lesion. `raw` holds the log-probability of each
+    recorded value (examined x candidates), `w` the items' weights; `leaders` the best member of each leading
+    hypothesis."""
     b = int(leaders[0])
     mean, var = _self_fit(at, b, items, w)
     gap = mean - float(ll[b])
-    first, second, pair = best_pair(at, items, values, seen, ll, leaders[:PAIR_FIRSTS])
+    first, second, pair = best_pair(at, items, values, raw, w, ll, leaders[:PAIR_FIRSTS])
     gain = pair - float(ll[b])
     poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
     return ("poor" if poor else "good"), (second if first == b else first), gain

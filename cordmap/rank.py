@@ -245,8 +245,8 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     at = atlas_mod.get(f.phase)
     cols, items, w = evidence(f, at)
     raw = np.asarray(at.logp)[cols]  # (examined, candidates): log-probability of each recorded value
-    seen = raw * w[:, None]  # ...weighted (observation.item_weights)
-    ll = seen.sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
+    # ...weighted (observation.item_weights) and summed: the log-likelihood of each candidate
+    ll = w.astype(np.float32) @ raw if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
@@ -259,7 +259,7 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
         advice = ("No lesion explains these findings better than a normal cord: nothing to image on these "
                   "findings alone; re-examine if the story suggests a cord or root lesion.")
     else:
-        fit, second, gain = assess_fit(at, items, [f.items[k] for k in items], w, seen, ll,
+        fit, second, gain = assess_fit(at, items, [f.items[k] for k in items], w, raw, ll,
                                        np.array([m[0] for m, _ in leading]))
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
