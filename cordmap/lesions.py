@@ -436,10 +436,13 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             ("left", "right", "both"), _anterior_horn),
     Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
             ("both",), _motor_neuron,
-            (_DEGENERATION,
+            # The ventral horns' loss reaches 0.9 (grade 2-3 on the MRC scale, forward.LMN_EXPONENT): wasted hands
+            # of grade 2-3 are the usual picture at diagnosis (from memory, standard neurology teaching on ALS).
+            (Param("severity", 1.0, (0.35, 0.65, 0.9, 1.0), 0.05, 1.0,
+                   "share of the ventral horn motor neurons lost, evenly over every segment of the region"),
              # Upper and lower motor neuron loss need not keep pace: brisk jerks and a Hoffmann sign over wasted,
              # weak arms with legs of normal power are common (from memory, standard neurology teaching on ALS).
-             Param("upper", 1.0, (0.7, 1.0), 0.1, 1.0,
+             Param("upper", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0,
                    "the corticospinal tracts' share of `severity` (0.7: upper motor neuron signs with little "
                    "corticospinal weakness)")), diffuse=True),
     Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),

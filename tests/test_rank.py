@@ -96,7 +96,11 @@ def test_round_trip(atlas, crisp):
           f"misses), {per_candidate:.2%} of the {int(live.sum())} candidates")
     # Per candidate the misses are dominated by 420 shallow, thinned lateral compressions at C1 predicting one
     # subtle finding: that exam is called normal, as the normal-cord hypothesis intends (measured 96.9%).
-    assert share >= 0.99 and per_candidate >= 0.96
+    # Since lower motor neuron loss is graded on the MRC scale (forward.LMN_EXPONENT) partial losses crowd into
+    # grades 4-5 and, with motor neuron disease's grid widened to match (lesions.py), 223 of 16,906 exams miss
+    # (98.7%; 95.0% per candidate): anterior horn exams come back as small central lesions (whose prior is four
+    # times larger), the rest are twins within one pattern.
+    assert share >= 0.985 and per_candidate >= 0.945
 
 
 # ------------------------------------------------------------------ noise
@@ -533,7 +537,7 @@ def test_two_lesion_unions_mostly_fit_poor(atlas, crisp):
     with at least three abnormal findings the other lacks, merged item by item (the more abnormal prediction wins):
     most must get 'poor'; the same verdict on heavily noisy single-lesion exams (see _noisy) must stay rare.
     Overlapping or nearby cord lesions are not two lesions (one of a shape the atlas lacks) and are not drawn.
-    Measured: 63% of pairs judged poor, 0% of noisy exams."""
+    Measured: 87% of pairs judged poor, 3% of noisy exams."""
     from cordmap.rank import separate
 
     rng = np.random.default_rng(21)
@@ -547,7 +551,8 @@ def test_two_lesion_unions_mostly_fit_poor(atlas, crisp):
         f = Findings({key: item_values(key)[pick[k]] for k, key in enumerate(atlas.items)})
         verdicts.append(_verdict(atlas, f))
     caught = verdicts.count("poor") / len(verdicts)
-    noisy = [_verdict(atlas, _noisy(atlas, crisp, int(i), rng)) for i in rng.choice(len(atlas), 60, replace=False)]
+    # 150 noisy exams: with 60 the share moved by a case or two whenever the atlas grew (another random draw)
+    noisy = [_verdict(atlas, _noisy(atlas, crisp, int(i), rng)) for i in rng.choice(len(atlas), 150, replace=False)]
     false = noisy.count("poor") / len(noisy)
     print(f"\ntwo-lesion unions judged poor: {caught:.0%} of {len(verdicts)}; noisy single lesions: {false:.0%}")
     assert caught >= 0.5 and false <= 0.05
