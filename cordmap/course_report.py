@@ -23,9 +23,10 @@ from .course import MEASURE_WORDS, UNIT_SHORT, Course, level_index, measures, pa
 from .course_alarms import NOTE, Alarm, alarms
 from .errors import CordmapError, bad_value
 from .findings import Findings, item_label
-from .hypotheses import _abnormal, _derived
+from .hypotheses import _derived
+from .items import SENSORY_SCALE, value_words, verdict
 from .lesions import NORMAL, PATTERNS
-from .rank import _grade_word, _ranges
+from .rank import _ranges
 
 FORMAT = "cordmap-course-report/1"
 RANK_MODES = ("leader", "full", "none")
@@ -247,9 +248,9 @@ def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[
     both = [k for k in fa.items if k in fb.items]
     for k in both:
         va, vb = fa.items[k], fb.items[k]
-        if va == vb or "NT" in (va, vb):
+        ab_a, ab_b = verdict(k, va), verdict(k, vb)
+        if va == vb or ab_a is None or ab_b is None:  # "NT": not tested is neither normal nor abnormal
             continue
-        ab_a, ab_b = _abnormal(k, va), _abnormal(k, vb)
         kind = "appeared" if ab_b and not ab_a else "resolved" if ab_a and not ab_b else "changed"
         if k[0] == "sensory":
             g = (kind, k[1], k[2], va, vb)
@@ -257,13 +258,13 @@ def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[
                 order.append(g)
             groups.setdefault(g, []).append(k[3])
             continue
-        words = f"{item_label(k)}: {_grade_word(k, va)} -> {_grade_word(k, vb)}"
+        words = f"{item_label(k)}: {value_words(k, va)} -> {value_words(k, vb)}"
         {"appeared": appeared, "resolved": resolved, "changed": changed}[kind].append(words)
     sensory: dict[str, list[str]] = {"appeared": [], "resolved": [], "changed": []}
     for g in order:
         kind, mod, side, va, vb = g
-        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {_grade_word(('sensory',), va)}"
-                             f" -> {_grade_word(('sensory',), vb)}")
+        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {SENSORY_SCALE.word(va)}"
+                             f" -> {SENSORY_SCALE.word(vb)}")
     return (tuple(sensory["appeared"] + appeared), tuple(sensory["resolved"] + resolved),
             tuple(sensory["changed"] + changed), len(keys) - len(both))
 

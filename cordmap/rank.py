@@ -18,13 +18,12 @@ from . import atlas as atlas_mod
 from . import cautions as C
 from . import nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
-from .findings import Findings, item_label, item_values, parse
+from .findings import Findings, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
 from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read them here)
     OUTSIDE_THE_CORD,
     SAME_EXAM_SHOWN,
     UNDETECTABLE,
-    _abnormal,
     _Derived,
     _derived,
     _leading,
@@ -37,6 +36,7 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     same_exam_groups,
 )
 from .imaging import Window, merge_levels, merge_windows, vertebral_levels, windows  # noqa: F401 (re-exported)
+from .items import SENSORY_SCALE, abnormal, item_label, item_values, value_words
 from .lesions import NORMAL, Lesion
 from .nexttests import NextTest  # noqa: F401 (re-exported)
 from .simulate import simulate
@@ -302,16 +302,6 @@ def _ranges(derms: list[str]) -> str:
     return ", ".join(parts)
 
 
-def _grade_word(key, value) -> str:
-    if key[0] == "sensory":
-        return ("absent", "impaired", "normal")[value]
-    if key[0] == "motor":
-        return f"grade {value}"
-    if key[0] == "sign" and isinstance(value, bool):
-        return "present" if value else "absent"
-    return str(value)
-
-
 def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> list[str]:
     """Plain-words lines for (key, entered, predicted) triples, sensory items grouped into dermatome ranges."""
     out = []
@@ -320,13 +310,13 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
         if key[0] == "sensory":
             groups.setdefault((key[1], key[2], entered, pred), []).append(key[3])
     for (mod, side, e, p), derms in groups.items():
-        words = f"{side} {mod.replace('_', ' ')} {_grade_word(('sensory',), e)} {_ranges(derms)}"
-        out.append(f"{words} (predicted {_grade_word(('sensory',), p)})" if conflicts else words)
+        words = f"{side} {mod.replace('_', ' ')} {SENSORY_SCALE.word(e)} {_ranges(derms)}"
+        out.append(f"{words} (predicted {SENSORY_SCALE.word(p)})" if conflicts else words)
     for key, entered, pred in items:
         if key[0] == "sensory":
             continue
-        words = f"{item_label(key)}: {_grade_word(key, entered)}"
-        out.append(f"{words} (predicted {_grade_word(key, pred)})" if conflicts else words)
+        words = f"{item_label(key)}: {value_words(key, entered)}"
+        out.append(f"{words} (predicted {value_words(key, pred)})" if conflicts else words)
     return out
 
 
@@ -404,7 +394,7 @@ def sensory_summary(f: Findings) -> str:
     parts = []
     for mod in MODALITIES:
         for side in SIDES:
-            ab = [k[3] for k, v in f.items.items() if k[:3] == ("sensory", mod, side) and v != 2]
+            ab = [k[3] for k, v in f.items.items() if k[:3] == ("sensory", mod, side) and abnormal(k, v)]
             if ab:
                 parts.append(f"{side} {mod.replace('_', ' ')} {_ranges(ab)}")
     return "; ".join(parts)

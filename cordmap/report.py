@@ -48,15 +48,13 @@ def report_format(path) -> str:
 
 def _entered_lines(findings) -> list[str]:
     """The abnormal entered findings in words (dermatomes grouped into ranges)."""
-    from .hypotheses import _abnormal
+    from .items import item_label, verdict
     from .rank import _describe
 
-    abnormal = [(k, v, v) for k, v in findings.items.items() if v != "NT" and _abnormal(k, v)]
-    nt = [k for k, v in findings.items.items() if v == "NT"]
+    abnormal = [(k, v, v) for k, v in findings.items.items() if verdict(k, v) is True]
+    nt = [k for k, v in findings.items.items() if verdict(k, v) is None]
     out = _describe(abnormal, conflicts=False)
     if nt:
-        from .findings import item_label
-
         out.append("not testable: " + ", ".join(item_label(k) for k in nt))
     return out
 

@@ -135,7 +135,9 @@ def findings_html(f) -> str:
     body = [["label", f.label or "(none)"], ["phase", f.phase],
             ["entered", f"{n['sensory']} sensory, {n['motor']} motor, {n['reflex']} reflexes, {n['sign']} signs"],
             ["abnormal sensory", sensory_summary(f) or "none entered"]]
-    weak = [f"{k[1]} {k[2]} {v}" for k, v in f.items.items() if k[0] == "motor" and v != "NT" and v < 5]
+    from .items import abnormal
+
+    weak = [f"{k[1]} {k[2]} {v}" for k, v in f.items.items() if k[0] == "motor" and abnormal(k, v)]
     body.append(["motor below 5", ", ".join(weak) or "none entered"])
     return (_title("cordmap findings (cordmap-findings/1)") + _table(["", ""], body)
             + cautions_html((C.DECISION_SUPPORT,)))
