@@ -117,6 +117,20 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     return tuple(out)
 
 
+def specific(texts) -> tuple[str, ...]:
+    """The cautions among `texts` (a ranking's) that fit this exam: those besides the general lines."""
+    return tuple(x for x in texts if x not in GENERAL)
+
+
+def combined(*groups) -> tuple[str, ...]:
+    """The cautions of several exams (or alarms) as one list: DECISION_SUPPORT first, then every other text once,
+    in the order first met."""
+    out = [DECISION_SUPPORT]
+    for group in groups:
+        out += [x for x in group if x not in out]
+    return tuple(out)
+
+
 _BELOW: dict[int, tuple] = {}
 
 

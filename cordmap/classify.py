@@ -40,6 +40,7 @@ from dataclasses import dataclass
 from functools import cache
 from itertools import product
 
+from . import cautions
 from .anatomy import SIDES, anatomy
 from .errors import CordmapError, bad_value
 from .findings import Findings, item_label, parse
@@ -51,8 +52,6 @@ AIS_GRADES = ("A", "B", "C", "D", "E")
 MODALITIES = ("light_touch", "pinprick")
 UPPER = ("C5", "C6", "C7", "C8", "T1")
 LOWER = ("L2", "L3", "L4", "L5", "S1")
-CAUTION = ("Decision support, not a diagnosis. Acute myelopathy is an emergency; high cervical lesions threaten "
-           "breathing; local protocols and licensed clinicians decide.")
 BOTH = frozenset((True, False))
 
 
@@ -136,7 +135,7 @@ class Classification:
                        "light_touch": self.light_touch.to_dict(), "pinprick": self.pinprick.to_dict()},
             "not_determinable": dict(self.reasons),
             "notes": list(self.notes),
-            "caution": CAUTION,
+            "caution": cautions.BANNER,
         }
 
     def to_json(self, indent: int | None = 2) -> str:
@@ -537,6 +536,16 @@ def rows(c: Classification) -> list[tuple[str, str]]:
     ]
 
 
+def classification_line(c: Classification) -> str:
+    """The classification on one line, in words: what the command line, the app, the report and the notebook views
+    show of it (the one formatter)."""
+    complete = {True: "complete", False: "incomplete"}.get(c.complete, "completeness not determinable")
+    return (f"AIS {c.ais}, neurological level {c.neurological_level}, {complete}; sensory level "
+            f"left {c.sensory_level.left} / right {c.sensory_level.right}; motor level left {c.motor_level.left} / "
+            f"right {c.motor_level.right}; upper-extremity motor score {c.uems.total}, lower-extremity motor score "
+            f"{c.lems.total}")
+
+
 def _value_words(v) -> str:
     return {ND: "not determinable (ND)", NA: "does not apply (NA)"}.get(v, str(v))
 
@@ -556,5 +565,5 @@ def main_text(c: Classification) -> str:
     if c.notes:
         lines.append("Notes:")
         lines += [f"  {n}" for n in c.notes]
-    lines.append(CAUTION)
+    lines.append(cautions.BANNER)
     return "\n".join(lines)

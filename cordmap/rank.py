@@ -70,7 +70,9 @@ class Hypothesis:
     vertebral_levels: tuple[str, ...]
     explains: tuple[str, ...]
     conflicts: tuple[str, ...]
-    summary: str
+    # the hypothesis in words after its name: how many findings it explains and conflicts with, the variants and
+    # the lesions with the same exam (`summary` puts the name in front; every surface shows one or the other whole)
+    reason: str
     # A hypothesis is one family, side and rostral segment (`lesion` is its most probable variant: parameters and
     # extent); `probability` is the mass of all its variants. `same_exam`: lesions of other hypotheses whose
     # predicted bedside exam is the same as `lesion`'s on every item the model knows (the most probable first, at
@@ -91,6 +93,11 @@ class Hypothesis:
     def description(self) -> str:
         """The leading lesion in plain words (`cordmap.words`)."""
         return self.lesion.describe()
+
+    @property
+    def summary(self) -> str:
+        """One sentence: the lesion in words, then `reason`."""
+        return f"{self.description}: {self.reason}"
 
     def __repr__(self) -> str:
         from .views import hypothesis_repr
@@ -334,20 +341,20 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     agree, conflict = agreement(f, items, raw[:, i], [d.likely[index[key], i] for key in items])
     explains = _describe(agree, conflicts=False)
     conflicts = _describe(conflict, conflicts=True)
-    summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
-    summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
+    reason = f"explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
+    reason += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
     pats = at.pattern_of[members]
     _, first = np.unique(pats, return_index=True)
     variants = tuple(at.lesion(int(members[k])) for k in sorted(first) if pats[k] != lesion.pattern)
     if variants:
-        summary += f"; or {', '.join(v.describe() for v in variants)} (imaging tells which)"
+        reason += f"; or {', '.join(v.describe() for v in variants)} (imaging tells which)"
     if others:
-        summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
-        summary += f" and {len(same) - 2} more" if len(same) > 2 else ""
+        reason += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
+        reason += f" and {len(same) - 2} more" if len(same) > 2 else ""
     wins = merge_windows(windows(x) for x in (lesion, *variants, *others))
     levels = merge_levels([w.levels for w in wins if not w.advice])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(same), variants, conflict_items=tuple(conflict), imaging=wins)
+                      reason, others, len(same), variants, conflict_items=tuple(conflict), imaging=wins)
 
 
 

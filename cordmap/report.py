@@ -62,7 +62,7 @@ def _entered_lines(findings) -> list[str]:
 def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
     """The case sheet as lines in words: the exam, the hypotheses with what they explain and conflict with, the
     next tests, the ISNCSCI classification, the cautions. Nothing is cut."""
-    from .classify import rows
+    from .classify import classification_line, rows
     from .views import FIT_WORDS, field_words
 
     n = len(findings.items)
@@ -70,6 +70,8 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
              Line("text", f"Exam: {findings.label or 'unlabelled'}"),
              Line("text", f"Phase: {PHASE_WORDS.get(findings.phase, findings.phase)}; {n} finding"
                           f"{'s' * (n != 1)} entered, {ranking.examined} used by the ranking"),
+             *([Line("text", f"ISNCSCI: {classification_line(ranking.classification)}")]
+               if ranking.classification is not None else []),
              Line("gap")]
     if ranking.hypotheses:
         lines.append(Line("pictures"))
@@ -81,8 +83,9 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
         lines.append(Line("text", ranking.advice))
     for h in ranking.hypotheses[:top]:
         levels = ", ".join(h.vertebral_levels) or "none (no lesion)"
-        lines += [Line("gap"), Line("text", f"{h.rank}. {h.lesion.describe()}: probability {h.probability:.1%}; "
-                                            f"vertebrae to image: {levels}", keep=h.rank)]
+        lines += [Line("gap"), Line("text", f"{h.rank}. {h.description}: probability {h.probability:.1%}; "
+                                            f"vertebrae to image: {levels}", keep=h.rank),
+                  Line("text", h.reason, 1, h.rank)]
         lines += [Line("text", f"{'also, ' if w.advice else 'why: '}{w.why}", 1, h.rank)
                   for w in getattr(h, "imaging", ())]
         if h.variants:

@@ -68,12 +68,10 @@ def hypothesis_repr(h) -> str:
 
 
 def classification_line(c) -> str:
-    """The classification on one line, in words."""
-    complete = {True: "complete", False: "incomplete"}.get(c.complete, "completeness not determinable")
-    return (f"AIS {c.ais}, neurological level {c.neurological_level}, {complete}; sensory level "
-            f"left {c.sensory_level.left} / right {c.sensory_level.right}; motor level left {c.motor_level.left} / "
-            f"right {c.motor_level.right}; upper-extremity motor score {c.uems.total}, lower-extremity motor score "
-            f"{c.lems.total}")
+    """The classification on one line, in words (`classify.classification_line`, the one formatter)."""
+    from .classify import classification_line as line
+
+    return line(c)
 
 
 def classification_repr(c) -> str:
