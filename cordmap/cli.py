@@ -221,7 +221,11 @@ def cmd_report(args):
 
 
 def cmd_serve(args):
-    from .serve import serve
+    try:  # the front end's launcher, imported only when this command runs (the core never imports it)
+        from widgets.serve import serve
+    except ImportError as e:
+        print(f"cordmap serve: the dashboard is not installed ({e}); pip install 'cordmap[app]'", file=sys.stderr)
+        return 2
 
     return serve(port=args.port, findings=args.findings, token=not args.no_token, idle_timeout=args.idle_timeout,
                  max_sessions=args.max_sessions)

@@ -1,6 +1,9 @@
-"""`cordmap serve`: the Voilà dashboard on 127.0.0.1.
+"""`cordmap serve`: the Voilà dashboard on 127.0.0.1 (the front end's launcher: the core never imports it; the
+command imports it when run).
 
-The findings file reaches the notebook through the environment variable ``CORDMAP_FINDINGS``. The kernel
+The page is the one dashboard notebook, `widgets/share/cordmap.ipynb`: package data, so a checkout and an
+installed copy serve the same page (`dashboards/cordmap.ipynb` is a link to it). The findings file reaches the
+notebook through the environment variable ``CORDMAP_FINDINGS``. The kernel
 websocket sets TCP_NODELAY (`NoDelayWebsocketConnection`): without it every second message of a quick pair waits
 for a delayed ACK, about 40 ms per round trip.
 
@@ -31,8 +34,8 @@ import tempfile
 import time
 from pathlib import Path
 
-from .cautions import BANNER
-from .errors import CordmapError
+from cordmap.cautions import BANNER
+from cordmap.errors import CordmapError
 
 ENV_FINDINGS = "CORDMAP_FINDINGS"
 DEFAULT_PORT = 8866
@@ -41,12 +44,8 @@ IDLE_TIMEOUT = 600  # seconds a kernel with no open tab may stay idle before it 
 CULL_INTERVAL = 60  # seconds between the culler's rounds
 MAX_SESSIONS = 8  # kernels at once; about 290 MB each
 ENV_TOKEN = "CORDMAP_SERVE_TOKEN"  # the token reaches the server here; `run_voila` takes it out of the environment
-NOTEBOOK = Path(__file__).resolve().parent.parent / "dashboards" / "cordmap.ipynb"
-NOTEBOOK_TEXT = """{"cells": [{"cell_type": "code", "execution_count": null, "id": "cell-0", "metadata": {},
- "outputs": [], "source": ["import widgets\\n", "app = widgets.dashboard()\\n", "app.widget"]}],
- "metadata": {"kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"}},
- "nbformat": 4, "nbformat_minor": 5}
-"""
+SHARE = Path(__file__).resolve().parent / "share"
+NOTEBOOK = SHARE / "cordmap.ipynb"  # package data; dashboards/cordmap.ipynb links here
 
 try:
     from jupyter_server.services.kernels.connection.channels import ZMQChannelsWebsocketConnection
@@ -66,8 +65,8 @@ if ZMQChannelsWebsocketConnection is not None:
 else:
     NoDelayWebsocketConnection = None
 
-CONNECTION_CLASS = "cordmap.serve.NoDelayWebsocketConnection"
-KERNEL_MANAGER_CLASS = "cordmap.serve.CappedKernelManager"
+CONNECTION_CLASS = "widgets.serve.NoDelayWebsocketConnection"
+KERNEL_MANAGER_CLASS = "widgets.serve.CappedKernelManager"
 
 try:
     from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
@@ -114,12 +113,7 @@ TEMPLATE = "cordmap"  # widgets/share/voila/templates/cordmap: the lab page with
 
 
 def _template_share() -> str | None:
-    try:
-        import widgets
-    except ImportError:
-        return None
-    share = Path(widgets.__file__).resolve().parent / "share"
-    return str(share) if (share / "voila" / "templates" / TEMPLATE).is_dir() else None
+    return str(SHARE) if (SHARE / "voila" / "templates" / TEMPLATE).is_dir() else None
 
 
 def free_port(host: str = "127.0.0.1") -> int:
@@ -150,13 +144,11 @@ def wait_for_port(port: int, host: str = "127.0.0.1", timeout: float = 30.0, pro
     return False
 
 
-def notebook_path(workdir: str | os.PathLike) -> Path:
-    """The dashboard notebook: the repository's copy, else a minimal one written into `workdir`."""
-    if NOTEBOOK.exists():
-        return NOTEBOOK
-    path = Path(workdir) / "cordmap.ipynb"
-    path.write_text(NOTEBOOK_TEXT, encoding="utf-8")
-    return path
+def notebook_path() -> Path:
+    """The dashboard notebook (package data: the same page from a checkout and from an installed copy)."""
+    if not NOTEBOOK.is_file():
+        raise CordmapError(f"{NOTEBOOK}: the dashboard notebook is missing; reinstall cordmap[app]")
+    return NOTEBOOK
 
 
 # Voila run as `python -m voila`, except that the optional IRI checker of jsonschema (the rfc3987_syntax package,
@@ -164,7 +156,7 @@ def notebook_path(workdir: str | os.PathLike) -> Path:
 # 2.4 s start here (python -X importtime), and the server validates no IRI-format fields. jsonschema skips a
 # format checker whose package is missing.
 VOILA_LAUNCHER = ("import sys; sys.modules.setdefault('rfc3987_syntax', None); "
-                  "from cordmap.serve import run_voila; run_voila()")
+                  "from widgets.serve import run_voila; run_voila()")
 
 
 def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "127.0.0.1",
@@ -196,17 +188,25 @@ def server_env(findings: str | os.PathLike | None = None, token: str = "") -> di
         env[ENV_TOKEN] = token
     if findings is not None:
         env[ENV_FINDINGS] = str(Path(findings).resolve())
-    root = str(Path(__file__).resolve().parent.parent)  # so the kernel imports this cordmap and widgets
     share = _template_share()
     if share:
         env["JUPYTER_PATH"] = os.pathsep.join(p for p in (share, env.get("JUPYTER_PATH", "")) if p)
-    env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    root = checkout_root()
+    if root:  # run from a source checkout: the kernel imports this cordmap and widgets (never site-packages)
+        env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
     # one BLAS thread per kernel (unless the caller chose): every session is a kernel of its own, and on a 2-core
     # machine the thread pools of several kernels fought for the cores (a ranking 1.5-2x slower under load,
     # benchmarks/bench_dashboard.py, issue 16)
     for name in BLAS_THREADS:
         env.setdefault(name, "1")
     return env
+
+
+def checkout_root() -> str | None:
+    """The source checkout this front end runs from (the folder holding pyproject.toml and cordmap/), or None for
+    an installed copy, which the kernel imports as the server does."""
+    root = Path(__file__).resolve().parent.parent
+    return str(root) if (root / "pyproject.toml").is_file() and (root / "cordmap").is_dir() else None
 
 
 def new_token() -> str:
@@ -218,7 +218,7 @@ def start(port: int, findings=None, host: str = "127.0.0.1", connection_dir: str
           cull_interval: int = CULL_INTERVAL, max_sessions: int = MAX_SESSIONS) -> tuple[subprocess.Popen, str]:
     """Start Voilà in its own process group; returns (process, connection dir). `token` "" serves without one."""
     cdir = connection_dir or tempfile.mkdtemp(prefix="cordmap-voila-")
-    cmd = voila_command(port, notebook_path(cdir), cdir, host, idle_timeout=idle_timeout,
+    cmd = voila_command(port, notebook_path(), cdir, host, idle_timeout=idle_timeout,
                         cull_interval=cull_interval, max_sessions=max_sessions)
     proc = subprocess.Popen(cmd, env=server_env(findings, token), start_new_session=True, stdout=stdout,
                             stderr=stderr)
@@ -247,7 +247,7 @@ def serve(port: int | None = None, findings=None, host: str = "127.0.0.1", token
         print("cordmap serve: Voila is not installed; pip install 'cordmap[app]'", file=sys.stderr)
         return 2
     if findings is not None:
-        from .findings import parse
+        from cordmap.findings import parse
 
         try:
             parse(Path(findings))
