@@ -132,41 +132,17 @@ if set(REFLEXES) != set(REFLEX_NAMES) or set(TENDON_REFLEXES) != {r for r, e in 
 
 # ---------------------------------------------------------------- the key types
 
-class SensoryKey(NamedTuple):
-    kind: str
-    modality: str
-    side: str
-    dermatome: str
-
-    def __repr__(self) -> str:
-        return repr(tuple(self))
+def _key_type(name: str, fields: str) -> type:
+    """A named key type: a NamedTuple whose first field is the kind, shown as the plain tuple it equals."""
+    cls = NamedTuple(name, [(f, str) for f in ("kind", *fields.split())])
+    cls.__repr__ = lambda self: repr(tuple(self))
+    return cls
 
 
-class MotorKey(NamedTuple):
-    kind: str
-    side: str
-    myotome: str
-
-    def __repr__(self) -> str:
-        return repr(tuple(self))
-
-
-class ReflexKey(NamedTuple):
-    kind: str
-    side: str
-    reflex: str
-
-    def __repr__(self) -> str:
-        return repr(tuple(self))
-
-
-class SignKey(NamedTuple):
-    kind: str
-    name: str
-    side: str
-
-    def __repr__(self) -> str:
-        return repr(tuple(self))
+SensoryKey = _key_type("SensoryKey", "modality side dermatome")
+MotorKey = _key_type("MotorKey", "side myotome")
+ReflexKey = _key_type("ReflexKey", "side reflex")
+SignKey = _key_type("SignKey", "name side")
 
 
 # ---------------------------------------------------------------- the kinds
