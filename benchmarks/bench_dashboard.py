@@ -24,7 +24,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from cordmap import demo, serve  # noqa: E402
+from cordmap import demo  # noqa: E402
 from cordmap.anatomy import anatomy  # noqa: E402
 from cordmap.rank import rank  # noqa: E402
 from tests.dashboard_page import (  # noqa: E402
@@ -37,6 +37,7 @@ from tests.dashboard_page import (  # noqa: E402
     kernel_pids,
     wait_idle,
 )
+from widgets import serve  # noqa: E402
 
 VIEWPORT = {"width": 1366, "height": 768}
 DEMO = "thoracic-hemicord"

@@ -23,8 +23,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from cordmap import serve  # noqa: E402
 from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, browser_missing, kernel_pids, rss_mb  # noqa: E402
+from widgets import serve  # noqa: E402
 
 READY_JS = ("() => { const t = document.querySelector('.cm-lead-text'); const i = document.querySelector("
             "'img.cm-section'); return t && t.offsetParent !== null && i && i.complete && i.naturalWidth > 0; }")

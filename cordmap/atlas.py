@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import cachedir, observation
+from . import cachedir, items, observation
 from .anatomy import anatomy
 from .findings import all_items, item_values
 from .forward import along_extent, fibre_losses_per_segment, readout, with_neuropathy
@@ -87,19 +87,9 @@ class Atlas:
 
 
 def abnormality(key: tuple) -> np.ndarray:
-    """For each value of an item, how far from normal it is (0 = normal): used to combine two lesions."""
-    values = item_values(key)
-    if key[0] == "sensory":
-        return np.array([2 - v for v in values], dtype=np.int8)
-    if key[0] == "motor":
-        return np.array([5 - v for v in values], dtype=np.int8)
-    if key[0] == "reflex":
-        normal = {"absent"} if key[2] == "hoffmann" else {"normal", "present", "flexor"}
-    elif key[1] == "horner":
-        normal = {False}
-    else:
-        normal = {"normal", "present", True}
-    return np.array([0 if v in normal else 1 for v in values], dtype=np.int8)
+    """For each value of an item, how far from normal it is (0 = normal; `items.distance`): used to combine two
+    lesions."""
+    return np.array(items.distance(key), dtype=np.int8)
 
 
 def variants() -> tuple[Variant, ...]:
@@ -172,7 +162,7 @@ def model_version() -> str:
     for name in sorted(p.name for p in resources.files("cordmap.data").iterdir() if p.name.endswith(".csv")):
         h.update(resources.files("cordmap.data").joinpath(name).read_bytes())
     here = Path(__file__).parent
-    for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py"):
+    for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py", "items.py"):
         h.update((here / mod).read_bytes())
     return h.hexdigest()[:16]
 

@@ -76,12 +76,10 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     import numpy as np
 
     from .anatomy import anatomy
-    from .atlas import abnormality
-    from .findings import item_values
+    from .items import abnormal, item_values
 
     a = anatomy()
-    abn = [at.item_index[k] for k, v in f.items.items()
-           if k in at.item_index and v in item_values(k) and abnormality(k)[item_values(k).index(v)] > 0]
+    abn = [at.item_index[k] for k, v in f.items.items() if k in at.item_index and abnormal(k, v)]
     if abn:
         share = (np.asarray(at.abnormal)[np.array(abn)] > 0).mean(axis=0)  # predicted abnormal, any grade
         reference = share[int(np.argmax(post))]  # what the most probable candidate explains
@@ -93,7 +91,7 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     cord = ~np.isin(pat, OUTSIDE)
     below = _below_t6_abnormal(at)
     out = []
-    weak = any(v != "NT" and v < 4 for k, v in f.items.items() if k[0] == "motor")
+    weak = any(k[0] == "motor" and v in item_values(k) and v < 4 for k, v in f.items.items())  # "NT" is not weak
     in_cord = w[cord & ~np.isin(pat, SACRAL + MOTOR_ONLY)].sum()
     sacral = w[np.isin(pat, SACRAL)].sum()
     extensor = any(k[0] == "reflex" and k[2] == "plantar" and v == "extensor" for k, v in f.items.items())
@@ -116,6 +114,20 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     if w[cord & ~np.isin(pat, AUTONOMIC_SPARED) & (at.top <= a.index("T6")) & below].sum() > CAUTION_MASS:
         out.append(THIS_DYSREFLEXIA)
     out.append(DECISION_SUPPORT)
+    return tuple(out)
+
+
+def specific(texts) -> tuple[str, ...]:
+    """The cautions among `texts` (a ranking's) that fit this exam: those besides the general lines."""
+    return tuple(x for x in texts if x not in GENERAL)
+
+
+def combined(*groups) -> tuple[str, ...]:
+    """The cautions of several exams (or alarms) as one list: DECISION_SUPPORT first, then every other text once,
+    in the order first met."""
+    out = [DECISION_SUPPORT]
+    for group in groups:
+        out += [x for x in group if x not in out]
     return tuple(out)
 
 

@@ -40,6 +40,7 @@ from dataclasses import dataclass
 from functools import cache
 from itertools import product
 
+from . import cautions
 from .anatomy import SIDES, anatomy
 from .errors import CordmapError, bad_value
 from .findings import Findings, item_label, parse
@@ -51,8 +52,6 @@ AIS_GRADES = ("A", "B", "C", "D", "E")
 MODALITIES = ("light_touch", "pinprick")
 UPPER = ("C5", "C6", "C7", "C8", "T1")
 LOWER = ("L2", "L3", "L4", "L5", "S1")
-CAUTION = ("Decision support, not a diagnosis. Acute myelopathy is an emergency; high cervical lesions threaten "
-           "breathing; local protocols and licensed clinicians decide.")
 BOTH = frozenset((True, False))
 
 
@@ -136,7 +135,7 @@ class Classification:
                        "light_touch": self.light_touch.to_dict(), "pinprick": self.pinprick.to_dict()},
             "not_determinable": dict(self.reasons),
             "notes": list(self.notes),
-            "caution": CAUTION,
+            "caution": cautions.BANNER,
         }
 
     def to_json(self, indent: int | None = 2) -> str:
@@ -349,34 +348,35 @@ def _all_normal(ex: _Exam) -> tuple[frozenset[bool], list[str]]:
     return (BOTH if unknown else frozenset((True,))), unknown
 
 
-def _zpp_motor(ex: _Exam, side: str, motor: frozenset[int]) -> tuple[frozenset[int], list[str]]:
-    key = _key_index()
+def _zpp(levels_: frozenset[int], rows) -> tuple[frozenset[int], list[str]]:
+    """The zone-of-partial-preservation walk, one for both kinds. For each possible level m, the zone is the most
+    caudal row below m with some function (a value >= 1), or m itself; a row further down with a value not
+    examined (None: missing or NT) leaves that row possible too. `rows`: (level index, ((label, value), ...)),
+    rostral to caudal. Returns the possible zones and the items that leave them open."""
     possible: set[int] = set()
     unknown: list[str] = []
-    for m in motor:
-        below = [(k, i, ex.motor(side, k)) for k, i in key.items() if i > m]
-        lowest = max([i for _, i, g in below if g is not None and g > 0], default=m)
+    for m in levels_:
+        below = [(i, cells) for i, cells in rows if i > m]
+        lowest = max([i for i, cells in below if any(v is not None and v > 0 for _, v in cells)], default=m)
         possible.add(lowest)
-        for k, i, g in below:
-            if g is None and i > lowest:
+        for i, cells in below:
+            missing = [label for label, v in cells if v is None]
+            if i > lowest and missing:
                 possible.add(i)
-                unknown.append(_motor_label(side, k))
+                unknown += missing
     return frozenset(possible), unknown
+
+
+def _zpp_motor(ex: _Exam, side: str, motor: frozenset[int]) -> tuple[frozenset[int], list[str]]:
+    """Motor zone: the key muscles below the motor level (grade >= 1 is function)."""
+    return _zpp(motor, [(i, ((_motor_label(side, k), ex.motor(side, k)),)) for k, i in _key_index().items()])
 
 
 def _zpp_sensory(ex: _Exam, side: str, sensory: frozenset[int]) -> tuple[frozenset[int], list[str]]:
+    """Sensory zone: the dermatomes below the sensory level (light touch or pinprick >= 1 is function)."""
     lv = levels()
-    possible: set[int] = set()
-    unknown: list[str] = []
-    for s in sensory:
-        vals = [(i, [ex.sens(m, side, lv[i]) for m in MODALITIES]) for i in range(s + 1, len(lv))]
-        lowest = max([i for i, v in vals if any(x is not None and x > 0 for x in v)], default=s)
-        possible.add(lowest)
-        for i, v in vals:
-            if i > lowest and None in v:
-                possible.add(i)
-                unknown += [_sens_label(m, side, lv[i]) for m, x in zip(MODALITIES, v) if x is None]
-    return frozenset(possible), unknown
+    return _zpp(sensory, [(i, tuple((_sens_label(m, side, lv[i]), ex.sens(m, side, lv[i])) for m in MODALITIES))
+                          for i in range(1, len(lv))])
 
 
 def _score(ex: _Exam, items: dict[str, list[tuple]], maximum: int) -> tuple[Score, list[str]]:
@@ -537,6 +537,16 @@ def rows(c: Classification) -> list[tuple[str, str]]:
     ]
 
 
+def classification_line(c: Classification) -> str:
+    """The classification on one line, in words: what the command line, the app, the report and the notebook views
+    show of it (the one formatter)."""
+    complete = {True: "complete", False: "incomplete"}.get(c.complete, "completeness not determinable")
+    return (f"AIS {c.ais}, neurological level {c.neurological_level}, {complete}; sensory level "
+            f"left {c.sensory_level.left} / right {c.sensory_level.right}; motor level left {c.motor_level.left} / "
+            f"right {c.motor_level.right}; upper-extremity motor score {c.uems.total}, lower-extremity motor score "
+            f"{c.lems.total}")
+
+
 def _value_words(v) -> str:
     return {ND: "not determinable (ND)", NA: "does not apply (NA)"}.get(v, str(v))
 
@@ -556,5 +566,5 @@ def main_text(c: Classification) -> str:
     if c.notes:
         lines.append("Notes:")
         lines += [f"  {n}" for n in c.notes]
-    lines.append(CAUTION)
+    lines.append(cautions.BANNER)
     return "\n".join(lines)

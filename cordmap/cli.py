@@ -67,6 +67,7 @@ def _add_lesion_args(p, positional: bool = True):
 
 
 def _print_ranking(r, out=None):
+    from .classify import classification_line
     from .imaging import span
 
     w = (out or sys.stdout).write  # looked up at call time, so redirected output is honoured
@@ -76,7 +77,8 @@ def _print_ranking(r, out=None):
         w(f"{verdict}: {r.advice}\n\n")
     for h in r.hypotheses:
         bar = "#" * max(1, round(h.probability * 30)) if h.probability >= 0.005 else "."
-        w(f"{h.rank:>2}. {h.lesion.describe():<48} {h.probability:6.1%} {bar}\n")
+        w(f"{h.rank:>2}. {h.description:<48} {h.probability:6.1%} {bar}\n")
+        w(f"    {h.reason}\n")
         if h.variants:
             w(f"    or: {'; '.join(v.describe() for v in h.variants)} (imaging tells which)\n")
         if h.same_exam:
@@ -98,20 +100,11 @@ def _print_ranking(r, out=None):
     elif r.fit in ("good", "poor"):
         w("\nNo bedside test left would change what is done: imaging tells the remaining hypotheses apart.\n")
     if r.classification is not None:
-        w(f"\nISNCSCI classification: {classification_line(r.classification.to_dict())}\n")
+        w(f"\nISNCSCI classification: {classification_line(r.classification)}\n")
     w("\nCautions:\n")
     for c in r.cautions:
         w(f"  ! {c}\n")
     w(f"\n{C.BANNER}\n")
-
-
-def classification_line(d: dict) -> str:
-    """One line of the ISNCSCI classification, e.g. 'NLI T5, AIS D (incomplete); sensory L T5 / R T6; ...'."""
-    complete = {True: "complete", False: "incomplete"}.get(d["complete"], "completeness ND")
-    sl, ml = d["sensory_level"], d["motor_level"]
-    return (f"NLI {d['neurological_level']}, AIS {d['ais']} ({complete}); sensory level L {sl['left']} / "
-            f"R {sl['right']}; motor level L {ml['left']} / R {ml['right']}; UEMS {d['scores']['uems']['total']}, "
-            f"LEMS {d['scores']['lems']['total']}")
 
 
 def cmd_patterns(args):
@@ -228,7 +221,11 @@ def cmd_report(args):
 
 
 def cmd_serve(args):
-    from .serve import serve
+    try:  # the front end's launcher, imported only when this command runs (the core never imports it)
+        from widgets.serve import serve
+    except ImportError as e:
+        print(f"cordmap serve: the dashboard is not installed ({e}); pip install 'cordmap[app]'", file=sys.stderr)
+        return 2
 
     return serve(port=args.port, findings=args.findings, token=not args.no_token, idle_timeout=args.idle_timeout,
                  max_sessions=args.max_sessions)

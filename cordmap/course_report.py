@@ -18,14 +18,15 @@ import pandas as pd
 
 from . import cautions as C
 from .anatomy import anatomy
-from .classify import AIS_GRADES, Classification, levels
+from .classify import AIS_GRADES, Classification
 from .course import MEASURE_WORDS, UNIT_SHORT, Course, level_index, measures, parse_course
 from .course_alarms import NOTE, Alarm, alarms
 from .errors import CordmapError, bad_value
 from .findings import Findings, item_label
-from .hypotheses import _abnormal, _derived
+from .hypotheses import _derived
+from .items import SENSORY_SCALE, value_words, verdict
 from .lesions import NORMAL, PATTERNS
-from .rank import _grade_word, _ranges
+from .rank import _ranges
 
 FORMAT = "cordmap-course-report/1"
 RANK_MODES = ("leader", "full", "none")
@@ -154,14 +155,13 @@ def _lead(ranking) -> Lead | None:
     return Lead(fam, lz.pattern, lz.side, lz.top, lz.bottom, h.probability, lz.describe(), ranking.fit)
 
 
-def fast_leads(exams: list[Findings]) -> list[Lead | None]:
-    """Each exam's leading hypothesis as `rank` lists it, without the parts a course does not show (next tests,
-    the two-lesion check, explanations). The exams of one phase share one gather of their recorded atlas rows and
-    one matrix product. Fit is 'normal' when the normal cord leads, else 'lesion' (as `cordmap batch` says it)."""
+def scored(exams: list[Findings]) -> list[tuple | None]:
+    """(atlas, log posterior unnormalised) of every exam with something entered, None for an empty one. The exams
+    of one phase share one gather of their recorded atlas rows and one matrix product."""
     from . import atlas as atlas_mod
-    from .rank import _softmax, evidence, leading_hypotheses, size_prior
+    from .rank import evidence, size_prior
 
-    out: list[Lead | None] = [None] * len(exams)
+    out: list[tuple | None] = [None] * len(exams)
     for phase in ("chronic", "acute"):
         sel = [k for k, f in enumerate(exams) if f.phase == phase and f.items]
         if not sel:
@@ -175,13 +175,26 @@ def fast_leads(exams: list[Findings]) -> list[Lead | None]:
             np.add.at(weights[row], inverse[start:start + len(cols)], w)
             start += len(cols)
         scores = weights @ np.asarray(at.logp[union]) + size_prior(at)[None, :]
-        d = _derived(at)
         for row, k in enumerate(sel):
-            lp = scores[row]
-            members, prob = leading_hypotheses(lp, _softmax(lp.astype(np.float64)), d, 1)[0]
-            lz = at.lesion(int(members[0]))
-            out[k] = Lead(PATTERNS[lz.pattern].family, lz.pattern, lz.side, lz.top, lz.bottom, float(prob),
-                          lz.describe(), "normal" if lz.pattern == NORMAL else "lesion")
+            out[k] = (at, scores[row])
+    return out
+
+
+def fast_leads(exams: list[Findings], scores: list[tuple | None] | None = None) -> list[Lead | None]:
+    """Each exam's leading hypothesis as `rank` lists it, without the parts a course does not show (next tests,
+    the two-lesion check, explanations), from `scored`. Fit is 'normal' when the normal cord leads, else 'lesion'
+    (as `cordmap batch` says it)."""
+    from .rank import _softmax, leading_hypotheses
+
+    out: list[Lead | None] = [None] * len(exams)
+    for k, hit in enumerate(scored(exams) if scores is None else scores):
+        if hit is None:
+            continue
+        at, lp = hit
+        members, prob = leading_hypotheses(lp, _softmax(lp.astype(np.float64)), _derived(at), 1)[0]
+        lz = at.lesion(int(members[0]))
+        out[k] = Lead(PATTERNS[lz.pattern].family, lz.pattern, lz.side, lz.top, lz.bottom, float(prob),
+                      lz.describe(), "normal" if lz.pattern == NORMAL else "lesion")
     return out
 
 
@@ -247,9 +260,9 @@ def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[
     both = [k for k in fa.items if k in fb.items]
     for k in both:
         va, vb = fa.items[k], fb.items[k]
-        if va == vb or "NT" in (va, vb):
+        ab_a, ab_b = verdict(k, va), verdict(k, vb)
+        if va == vb or ab_a is None or ab_b is None:  # "NT": not tested is neither normal nor abnormal
             continue
-        ab_a, ab_b = _abnormal(k, va), _abnormal(k, vb)
         kind = "appeared" if ab_b and not ab_a else "resolved" if ab_a and not ab_b else "changed"
         if k[0] == "sensory":
             g = (kind, k[1], k[2], va, vb)
@@ -257,13 +270,13 @@ def _findings_words(fa: Findings, fb: Findings) -> tuple[tuple[str, ...], tuple[
                 order.append(g)
             groups.setdefault(g, []).append(k[3])
             continue
-        words = f"{item_label(k)}: {_grade_word(k, va)} -> {_grade_word(k, vb)}"
+        words = f"{item_label(k)}: {value_words(k, va)} -> {value_words(k, vb)}"
         {"appeared": appeared, "resolved": resolved, "changed": changed}[kind].append(words)
     sensory: dict[str, list[str]] = {"appeared": [], "resolved": [], "changed": []}
     for g in order:
         kind, mod, side, va, vb = g
-        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {_grade_word(('sensory',), va)}"
-                             f" -> {_grade_word(('sensory',), vb)}")
+        sensory[kind].append(f"{mod.replace('_', ' ')} {side} {_ranges(groups[g])}: {SENSORY_SCALE.word(va)}"
+                             f" -> {SENSORY_SCALE.word(vb)}")
     return (tuple(sensory["appeared"] + appeared), tuple(sensory["resolved"] + resolved),
             tuple(sensory["changed"] + changed), len(keys) - len(both))
 
@@ -288,6 +301,8 @@ def follow(course, rank: str = "leader", rankings: list | None = None) -> Course
     cls = course.classifications
     if rank not in RANK_MODES:
         raise bad_value("rank", rank, RANK_MODES, "ranking mode")
+    exams = list(course.findings)
+    scores = scored(exams)  # every exam's posterior: the cautions fit each exam, whatever `rank` says
     if rankings is not None:
         if len(rankings) != len(course):
             raise CordmapError(f"rankings: {len(rankings)} given for {len(course)} exams; give one per exam")
@@ -297,7 +312,7 @@ def follow(course, rank: str = "leader", rankings: list | None = None) -> Course
 
         leads = tuple(_lead(full_rank(e.findings, top=3, next_tests=0, classify=False)) for e in course.exams)
     elif rank == "leader":
-        leads = tuple(fast_leads(list(course.findings)))
+        leads = tuple(fast_leads(exams, scores))
     else:
         leads = (None,) * len(course)
     steps = tuple(_step(course, cls, leads, j - 1, j) for j in range(1, len(course)))
@@ -311,26 +326,17 @@ def follow(course, rank: str = "leader", rankings: list | None = None) -> Course
         if "ND" in (c.ais, c.neurological_level):
             notes.append(f"Exam at {course.exams[k].time:g} {unit}: grade or neurological level not determinable "
                          "(items not examined); changes involving it are not computed.")
-    return CourseReport(course, cls, leads, steps, overall, al, tuple(notes), course_cautions(course, cls, al))
+    return CourseReport(course, cls, leads, steps, overall, al, tuple(notes),
+                        course_cautions(course, cls, al, scores))
 
 
-def course_cautions(course: Course, cls, al) -> tuple[str, ...]:
-    """The cautions that fit this course: decision support and the emergency always; breathing when a level of any
-    exam is at C5 or above (or not determinable); dysreflexia when at T6 or above (or not determinable); then those
-    of the alarms."""
-    lv = levels()
-    highest = []
-    for c in cls:
-        for v in (c.neurological_level, c.sensory_level.left, c.sensory_level.right, c.motor_level.left,
-                  c.motor_level.right):
-            i = level_index(v)
-            highest.append(0 if i is None and v != "NA" else i if i is not None else len(lv))
-    top = min(highest) if highest else 0
-    cautions = [C.DECISION_SUPPORT, C.EMERGENCY]
-    if top <= lv.index("C5"):
-        cautions.append(C.BREATHING)
-    if top <= lv.index("T6"):
-        cautions.append(C.DYSREFLEXIA)
-    for a in al:
-        cautions += [x for x in a.cautions if x not in cautions]
-    return tuple(cautions)
+def course_cautions(course: Course, cls, al, scores=None) -> tuple[str, ...]:
+    """The cautions that fit this course: those `cautions.applicable` fits to each exam (its posterior from
+    `scored`, its classification), then those of the alarms; the decision-support line first (`cautions.combined`)."""
+    from .rank import _softmax
+
+    exams = list(course.findings)
+    scores = scored(exams) if scores is None else scores
+    fitted = [() if hit is None else C.applicable(hit[0], _softmax(hit[1].astype(np.float64)), f, c)
+              for hit, f, c in zip(scores, exams, cls)]
+    return C.combined(*fitted, *(a.cautions for a in al))

@@ -1,7 +1,7 @@
 """The findings document (format ``cordmap-findings/1``): reading, checking, writing.
 
-A `Findings` value holds one exam as a flat mapping from an item key to a canonical value.
-Item keys are tuples:
+A `Findings` value holds one exam as a flat mapping from an item key to a canonical value. Item keys are the
+named tuples of `cordmap.items` (equal to plain tuples), the registry of every item's values and which is normal:
 
 * ``("sensory", modality, side, dermatome)`` -> 0 absent, 1 impaired, 2 normal
 * ``("motor", side, myotome)`` -> MRC grade 0..5, or ``"NT"``
@@ -22,6 +22,7 @@ from types import MappingProxyType
 
 import pandas as pd
 
+from . import items as registry
 from .anatomy import MODALITIES, REFLEXES, SIDES, TENDON_REFLEXES, anatomy
 from .errors import CordmapError, bad_value, shown
 from .files import MAX_FINDINGS_BYTES, read_bounded
@@ -30,67 +31,21 @@ FORMAT = "cordmap-findings/1"
 # "caution": the clinical caution a document written by cordmap (simulate) carries; read and ignored
 DOCUMENT_KEYS = ("format", "label", "phase", "sensory", "motor", "reflexes", "signs", "caution")
 PHASES = ("chronic", "acute")
-SENSORY_GRADES = {"absent": 0, "impaired": 1, "normal": 2}
+# the values of every item come from the registry (`cordmap.items`); these names are what the reader spells them by
+SENSORY_GRADES = dict(zip(registry.SENSORY_SCALE.words, registry.SENSORY_SCALE.values))
 SENSORY_NAMES = {v: k for k, v in SENSORY_GRADES.items()}
-TENDON_GRADES = ("absent", "reduced", "normal", "brisk")
+TENDON_GRADES = registry.TENDON_SCALE.values
 NINDS = {0: "absent", 1: "reduced", 2: "normal", 3: "normal", 4: "brisk"}  # NINDS myotatic scale 0..4
-PRESENCE = ("present", "absent")
-PLANTAR = ("flexor", "extensor", "mute")
-SIGNS = {
-    "voluntary_anal_contraction": (True, False),
-    "deep_anal_pressure": (True, False),
-    "bulbocavernosus": ("present", "absent"),
-    "bladder": ("normal", "retention", "urgency"),
-    "diaphragm": ("normal", "weak"),
-}
+PRESENCE = registry.PRESENT_NORMAL.values
+PLANTAR = registry.PLANTAR_SCALE.values
+SIGNS = {name: e.scale.values for name, e in registry.SIGNS.items()}
+item_values = registry.item_values
+all_items = registry.all_items
+item_label = registry.item_label
 
 
 def reflex_values(reflex: str) -> tuple[str, ...]:
-    if reflex in TENDON_REFLEXES:
-        return TENDON_GRADES
-    if reflex == "plantar":
-        return PLANTAR
-    return PRESENCE
-
-
-def item_values(key: tuple) -> tuple:
-    """The allowed canonical values of one item."""
-    kind = key[0]
-    if kind == "sensory":
-        return (0, 1, 2)
-    if kind == "motor":
-        return (0, 1, 2, 3, 4, 5)
-    if kind == "reflex":
-        return reflex_values(key[2])
-    if key[1] == "horner":
-        return (True, False)
-    return SIGNS[key[1]]
-
-
-def all_items() -> tuple[tuple, ...]:
-    """Every item an exam can record, in a fixed order."""
-    a = anatomy()
-    items = [("sensory", m, s, d) for m in MODALITIES for s in SIDES for d in a.dermatomes]
-    items += [("motor", s, m) for s in SIDES for m in a.key_myotomes]
-    items += [("reflex", s, r) for s in SIDES for r in REFLEXES]
-    items += [("sign", "horner", s) for s in SIDES]
-    items += [("sign", name, "") for name in SIGNS]
-    return tuple(items)
-
-
-def item_label(key: tuple) -> str:
-    """Plain words for one item, e.g. 'pinprick left T10', 'left knee reflex'."""
-    if key[0] == "sensory":
-        return f"{key[1].replace('_', ' ')} {key[2]} {key[3]}"
-    if key[0] == "motor":
-        muscle = anatomy().muscle_name(key[2])
-        return f"{key[1]} {key[2]} {muscle}"
-    if key[0] == "reflex":
-        return f"{key[1]} {key[2].replace('_', ' ')} reflex" if key[2] not in ("plantar", "hoffmann") \
-            else f"{key[1]} {key[2]} response"
-    if key[1] == "horner":
-        return f"Horner sign {key[2]}"
-    return key[1].replace("_", " ")
+    return registry.REFLEXES[reflex].scale.values
 
 
 @dataclass(frozen=True)
@@ -104,7 +59,7 @@ class Findings:
     def __post_init__(self):
         if self.phase not in PHASES:
             raise bad_value("phase", self.phase, PHASES, "phase")
-        object.__setattr__(self, "items", MappingProxyType(dict(self.items)))
+        object.__setattr__(self, "items", MappingProxyType({registry.key(k): v for k, v in self.items.items()}))
 
     def __hash__(self):
         return hash((self.label, self.phase, tuple(sorted(self.items.items(), key=repr))))

@@ -7,7 +7,8 @@ import numpy as np
 
 from . import atlas as atlas_mod
 from .anatomy import anatomy
-from .hypotheses import _abnormal, _derived
+from .hypotheses import _derived
+from .items import abnormal
 from .lesions import NORMAL, PATTERNS
 
 # Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
@@ -51,7 +52,7 @@ def best_pair(at, items: list[tuple], recorded_values: list, raw: np.ndarray, w:
     firsts = firsts[_masks(at).pairable[firsts]]
     # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
     # first lesion tried explains all the abnormal findings, there is nothing to search for.
-    recorded = np.array([_abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
+    recorded = np.array([abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
     unexplained = recorded[:, None] & (at.abnormal[np.ix_(rows, firsts)] == 0)
     if not len(firsts) or not unexplained.any():
         return best

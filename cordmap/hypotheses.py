@@ -14,7 +14,7 @@ import numpy as np
 from . import atlas as atlas_mod
 from . import observation
 from .anatomy import anatomy, cord_region, family_priors
-from .findings import item_values
+from .items import abnormal, item_values
 from .lesions import NORMAL, PATTERNS
 
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
@@ -23,19 +23,6 @@ UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly norm
 # Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
 # dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
 OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", NORMAL)
-
-
-
-def _abnormal(key, value) -> bool:
-    if key[0] == "sensory":
-        return value != 2
-    if key[0] == "motor":
-        return value != 5
-    if key[0] == "reflex":
-        return value not in ("normal", "present", "flexor") or (key[2] == "hoffmann" and value == "present")
-    if key[1] == "horner":
-        return bool(value)
-    return value not in (True, "present", "normal")
 
 
 
@@ -55,7 +42,7 @@ def agreement(f, items, logp: np.ndarray, likely: np.ndarray) -> tuple[list, lis
         pv = item_values(key)[int(k)]
         if np.exp(c) < CONFLICT_BELOW:
             conflict.append((key, entered, pv))
-        elif pv == entered and _abnormal(key, entered):
+        elif pv == entered and abnormal(key, entered):
             agree.append((key, entered, pv))
     return agree, conflict
 

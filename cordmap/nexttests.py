@@ -14,13 +14,13 @@ says where to test ("pinprick on the left at the nipple line, T4") and what each
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import cache
 
 import numpy as np
 
-from .anatomy import _table, anatomy
-from .errors import CordmapError
-from .findings import Findings, item_values
+from .anatomy import anatomy
+from .findings import Findings
+from .items import bedside as finding_words  # noqa: F401 (where and what to test, in words; re-exported)
+from .items import feasible, item_values, sites, value_words  # noqa: F401 (re-exported)
 
 POOL = 200  # candidates the ranking hands over (its leading ones); the classes' own candidates are added here
 ALTERNATIVES = 3  # management classes weighed besides the leading one
@@ -51,73 +51,9 @@ class NextTest:
     separates: tuple = ()
 
 
-@cache
-def sites() -> dict[tuple[str, str], str]:
-    """`data/bedside.csv`: {(modality or 'skin', dermatome): the site in words}, checked on load."""
-    t = _table("bedside.csv", ("modality", "dermatome", "site"))
-    derms = anatomy().dermatomes
-    out = {}
-    for r in t.itertuples():
-        if r.modality not in ("skin", "vibration", "joint_position"):
-            raise CordmapError(f"cordmap/data/bedside.csv: unknown modality {r.modality!r}; allowed skin, "
-                               f"vibration, joint_position")
-        if r.dermatome not in derms:
-            raise CordmapError(f"cordmap/data/bedside.csv: unknown dermatome {r.dermatome!r}")
-        if (r.modality, r.dermatome) in out:
-            raise CordmapError(f"cordmap/data/bedside.csv: {r.modality} {r.dermatome} given twice")
-        out[(r.modality, r.dermatome)] = r.site
-    if any(("skin", d) not in out for d in derms):
-        raise CordmapError("cordmap/data/bedside.csv: every dermatome needs its skin site")
-    return out
-
-
-def feasible(key: tuple) -> bool:
-    """Whether a bedside examiner can test this item: pinprick, light touch and temperature on any dermatome,
-    vibration and joint position only where bedside.csv names a site; key muscles, reflexes and signs always."""
-    if key[0] != "sensory":
-        return True
-    mod, derm = key[1], key[3]
-    if mod in ("pinprick", "light_touch", "temperature"):
-        return True
-    return (mod, derm) in sites()
-
-
-_REFLEX_WORDS = {"biceps": "biceps jerk", "brachioradialis": "brachioradialis (supinator) jerk",
-                 "triceps": "triceps jerk", "finger_flexors": "finger flexor jerk", "hoffmann": "Hoffmann sign",
-                 "abdominal_upper": "upper abdominal reflex", "abdominal_lower": "lower abdominal reflex",
-                 "cremasteric": "cremasteric reflex", "knee": "knee jerk", "ankle": "ankle jerk",
-                 "plantar": "plantar response"}
-_SIGN_WORDS = {"voluntary_anal_contraction": "voluntary anal contraction (rectal exam)",
-               "deep_anal_pressure": "deep anal pressure (rectal exam)",
-               "bulbocavernosus": "bulbocavernosus reflex", "bladder": "the bladder (retention: a post-void scan)",
-               "diaphragm": "the diaphragm (sniff test, vital capacity)"}
-
-
-def finding_words(key: tuple) -> str:
-    """Where and what to test, e.g. 'pinprick on the left at the nipple line (T4)'."""
-    kind = key[0]
-    if kind == "sensory":
-        mod, side, derm = key[1], key[2], key[3]
-        place = sites().get((mod if mod in ("vibration", "joint_position") else "skin", derm), derm)
-        what = {"joint_position": "joint position", "light_touch": "light touch"}.get(mod, mod)
-        return f"{what} on the {side} at {place} ({derm})"
-    if kind == "motor":
-        return f"{key[1]} {anatomy().muscle_name(key[2])} strength ({key[2]})"
-    if kind == "reflex":
-        return f"{key[1]} {_REFLEX_WORDS.get(key[2], key[2].replace('_', ' '))}"
-    if key[1] == "horner":
-        return f"Horner sign on the {key[2]} (ptosis, small pupil)"
-    return _SIGN_WORDS.get(key[1], key[1].replace("_", " "))
-
-
 def answer_words(key: tuple, value) -> str:
-    if key[0] == "sensory":
-        return ("absent", "impaired", "normal")[value]
-    if key[0] == "motor":
-        return f"grade {value}"
-    if isinstance(value, bool):
-        return "present" if value else "absent"
-    return str(value)
+    """An answer in words ('absent', 'grade 3', 'present'): the registry's words (`items.value_words`)."""
+    return value_words(key, value)
 
 
 # ------------------------------------------------------------------ management classes

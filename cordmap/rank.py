@@ -18,13 +18,12 @@ from . import atlas as atlas_mod
 from . import cautions as C
 from . import nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
-from .findings import Findings, item_label, item_values, parse
+from .findings import Findings, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
 from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read them here)
     OUTSIDE_THE_CORD,
     SAME_EXAM_SHOWN,
     UNDETECTABLE,
-    _abnormal,
     _Derived,
     _derived,
     _leading,
@@ -37,6 +36,7 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     same_exam_groups,
 )
 from .imaging import Window, merge_levels, merge_windows, vertebral_levels, windows  # noqa: F401 (re-exported)
+from .items import SENSORY_SCALE, abnormal, item_label, item_values, value_words
 from .lesions import NORMAL, Lesion
 from .nexttests import NextTest  # noqa: F401 (re-exported)
 from .simulate import simulate
@@ -70,7 +70,9 @@ class Hypothesis:
     vertebral_levels: tuple[str, ...]
     explains: tuple[str, ...]
     conflicts: tuple[str, ...]
-    summary: str
+    # the hypothesis in words after its name: how many findings it explains and conflicts with, the variants and
+    # the lesions with the same exam (`summary` puts the name in front; every surface shows one or the other whole)
+    reason: str
     # A hypothesis is one family, side and rostral segment (`lesion` is its most probable variant: parameters and
     # extent); `probability` is the mass of all its variants. `same_exam`: lesions of other hypotheses whose
     # predicted bedside exam is the same as `lesion`'s on every item the model knows (the most probable first, at
@@ -91,6 +93,11 @@ class Hypothesis:
     def description(self) -> str:
         """The leading lesion in plain words (`cordmap.words`)."""
         return self.lesion.describe()
+
+    @property
+    def summary(self) -> str:
+        """One sentence: the lesion in words, then `reason`."""
+        return f"{self.description}: {self.reason}"
 
     def __repr__(self) -> str:
         from .views import hypothesis_repr
@@ -302,16 +309,6 @@ def _ranges(derms: list[str]) -> str:
     return ", ".join(parts)
 
 
-def _grade_word(key, value) -> str:
-    if key[0] == "sensory":
-        return ("absent", "impaired", "normal")[value]
-    if key[0] == "motor":
-        return f"grade {value}"
-    if key[0] == "sign" and isinstance(value, bool):
-        return "present" if value else "absent"
-    return str(value)
-
-
 def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> list[str]:
     """Plain-words lines for (key, entered, predicted) triples, sensory items grouped into dermatome ranges."""
     out = []
@@ -320,13 +317,13 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
         if key[0] == "sensory":
             groups.setdefault((key[1], key[2], entered, pred), []).append(key[3])
     for (mod, side, e, p), derms in groups.items():
-        words = f"{side} {mod.replace('_', ' ')} {_grade_word(('sensory',), e)} {_ranges(derms)}"
-        out.append(f"{words} (predicted {_grade_word(('sensory',), p)})" if conflicts else words)
+        words = f"{side} {mod.replace('_', ' ')} {SENSORY_SCALE.word(e)} {_ranges(derms)}"
+        out.append(f"{words} (predicted {SENSORY_SCALE.word(p)})" if conflicts else words)
     for key, entered, pred in items:
         if key[0] == "sensory":
             continue
-        words = f"{item_label(key)}: {_grade_word(key, entered)}"
-        out.append(f"{words} (predicted {_grade_word(key, pred)})" if conflicts else words)
+        words = f"{item_label(key)}: {value_words(key, entered)}"
+        out.append(f"{words} (predicted {value_words(key, pred)})" if conflicts else words)
     return out
 
 
@@ -344,20 +341,20 @@ def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, s
     agree, conflict = agreement(f, items, raw[:, i], [d.likely[index[key], i] for key in items])
     explains = _describe(agree, conflicts=False)
     conflicts = _describe(conflict, conflicts=True)
-    summary = f"{lesion.describe()}: explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
-    summary += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
+    reason = f"explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"
+    reason += f", {len(conflict)} conflict{'s' * (len(conflict) != 1)}" if conflict else ", no conflicts"
     pats = at.pattern_of[members]
     _, first = np.unique(pats, return_index=True)
     variants = tuple(at.lesion(int(members[k])) for k in sorted(first) if pats[k] != lesion.pattern)
     if variants:
-        summary += f"; or {', '.join(v.describe() for v in variants)} (imaging tells which)"
+        reason += f"; or {', '.join(v.describe() for v in variants)} (imaging tells which)"
     if others:
-        summary += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
-        summary += f" and {len(same) - 2} more" if len(same) > 2 else ""
+        reason += f"; the same exam as {', '.join(o.describe() for o in others[:2])}"
+        reason += f" and {len(same) - 2} more" if len(same) > 2 else ""
     wins = merge_windows(windows(x) for x in (lesion, *variants, *others))
     levels = merge_levels([w.levels for w in wins if not w.advice])
     return Hypothesis(rank_no, lesion, prob, float(ll[i]), levels, tuple(explains[:12]), tuple(conflicts[:12]),
-                      summary, others, len(same), variants, conflict_items=tuple(conflict), imaging=wins)
+                      reason, others, len(same), variants, conflict_items=tuple(conflict), imaging=wins)
 
 
 
@@ -404,7 +401,7 @@ def sensory_summary(f: Findings) -> str:
     parts = []
     for mod in MODALITIES:
         for side in SIDES:
-            ab = [k[3] for k, v in f.items.items() if k[:3] == ("sensory", mod, side) and v != 2]
+            ab = [k[3] for k, v in f.items.items() if k[:3] == ("sensory", mod, side) and abnormal(k, v)]
             if ab:
                 parts.append(f"{side} {mod.replace('_', ' ')} {_ranges(ab)}")
     return "; ".join(parts)

@@ -48,15 +48,13 @@ def report_format(path) -> str:
 
 def _entered_lines(findings) -> list[str]:
     """The abnormal entered findings in words (dermatomes grouped into ranges)."""
-    from .hypotheses import _abnormal
+    from .items import item_label, verdict
     from .rank import _describe
 
-    abnormal = [(k, v, v) for k, v in findings.items.items() if v != "NT" and _abnormal(k, v)]
-    nt = [k for k, v in findings.items.items() if v == "NT"]
+    abnormal = [(k, v, v) for k, v in findings.items.items() if verdict(k, v) is True]
+    nt = [k for k, v in findings.items.items() if verdict(k, v) is None]
     out = _describe(abnormal, conflicts=False)
     if nt:
-        from .findings import item_label
-
         out.append("not testable: " + ", ".join(item_label(k) for k in nt))
     return out
 
@@ -64,7 +62,7 @@ def _entered_lines(findings) -> list[str]:
 def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
     """The case sheet as lines in words: the exam, the hypotheses with what they explain and conflict with, the
     next tests, the ISNCSCI classification, the cautions. Nothing is cut."""
-    from .classify import rows
+    from .classify import classification_line, rows
     from .views import FIT_WORDS, field_words
 
     n = len(findings.items)
@@ -72,6 +70,8 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
              Line("text", f"Exam: {findings.label or 'unlabelled'}"),
              Line("text", f"Phase: {PHASE_WORDS.get(findings.phase, findings.phase)}; {n} finding"
                           f"{'s' * (n != 1)} entered, {ranking.examined} used by the ranking"),
+             *([Line("text", f"ISNCSCI: {classification_line(ranking.classification)}")]
+               if ranking.classification is not None else []),
              Line("gap")]
     if ranking.hypotheses:
         lines.append(Line("pictures"))
@@ -83,8 +83,9 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
         lines.append(Line("text", ranking.advice))
     for h in ranking.hypotheses[:top]:
         levels = ", ".join(h.vertebral_levels) or "none (no lesion)"
-        lines += [Line("gap"), Line("text", f"{h.rank}. {h.lesion.describe()}: probability {h.probability:.1%}; "
-                                            f"vertebrae to image: {levels}", keep=h.rank)]
+        lines += [Line("gap"), Line("text", f"{h.rank}. {h.description}: probability {h.probability:.1%}; "
+                                            f"vertebrae to image: {levels}", keep=h.rank),
+                  Line("text", h.reason, 1, h.rank)]
         lines += [Line("text", f"{'also, ' if w.advice else 'why: '}{w.why}", 1, h.rank)
                   for w in getattr(h, "imaging", ())]
         if h.variants:

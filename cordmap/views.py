@@ -68,12 +68,10 @@ def hypothesis_repr(h) -> str:
 
 
 def classification_line(c) -> str:
-    """The classification on one line, in words."""
-    complete = {True: "complete", False: "incomplete"}.get(c.complete, "completeness not determinable")
-    return (f"AIS {c.ais}, neurological level {c.neurological_level}, {complete}; sensory level "
-            f"left {c.sensory_level.left} / right {c.sensory_level.right}; motor level left {c.motor_level.left} / "
-            f"right {c.motor_level.right}; upper-extremity motor score {c.uems.total}, lower-extremity motor score "
-            f"{c.lems.total}")
+    """The classification on one line, in words (`classify.classification_line`, the one formatter)."""
+    from .classify import classification_line as line
+
+    return line(c)
 
 
 def classification_repr(c) -> str:
@@ -135,7 +133,9 @@ def findings_html(f) -> str:
     body = [["label", f.label or "(none)"], ["phase", f.phase],
             ["entered", f"{n['sensory']} sensory, {n['motor']} motor, {n['reflex']} reflexes, {n['sign']} signs"],
             ["abnormal sensory", sensory_summary(f) or "none entered"]]
-    weak = [f"{k[1]} {k[2]} {v}" for k, v in f.items.items() if k[0] == "motor" and v != "NT" and v < 5]
+    from .items import abnormal
+
+    weak = [f"{k[1]} {k[2]} {v}" for k, v in f.items.items() if k[0] == "motor" and abnormal(k, v)]
     body.append(["motor below 5", ", ".join(weak) or "none entered"])
     return (_title("cordmap findings (cordmap-findings/1)") + _table(["", ""], body)
             + cautions_html((C.DECISION_SUPPORT,)))

@@ -33,7 +33,7 @@ def voila_server():
     try:
         import voila  # noqa: F401
 
-        from cordmap import serve
+        from widgets import serve
     except ImportError as e:
         _missing(f"Voilà is not installed ({e}); pip install -e '.[test]'")
     port = serve.free_port()

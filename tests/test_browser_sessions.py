@@ -23,7 +23,7 @@ LOADS = 20
 
 class Server:
     def __init__(self, **kw):
-        from cordmap import serve
+        from widgets import serve
 
         self.serve = serve
         self.port = serve.free_port()

@@ -17,8 +17,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from cordmap import cautions
 from cordmap.anatomy import SIDES, anatomy
-from cordmap.classify import AIS_GRADES, CAUTION, FORMAT, classify, levels, main_text
+from cordmap.classify import AIS_GRADES, FORMAT, classify, levels, main_text
 from cordmap.errors import CordmapError
 from cordmap.findings import parse
 
@@ -340,9 +341,8 @@ def test_json_output_version_1():
 def test_text_output_carries_caution_and_reasons():
     c = classify(exam({"C2-T7": "normal", "T9-S4-5": "absent"}, ml="5555500000", vac=None))
     text = main_text(c)
-    assert text.rstrip().endswith(CAUTION)
-    assert CAUTION == ("Decision support, not a diagnosis. Acute myelopathy is an emergency; high cervical lesions "
-                       "threaten breathing; local protocols and licensed clinicians decide.")
+    assert text.rstrip().endswith(cautions.BANNER)  # the one banner of cordmap.cautions, dysreflexia line included
+    assert "autonomic dysreflexia" in text and c.to_dict()["caution"] == cautions.BANNER
     assert "Not determinable" in text and "sensory level, left" in text and "light touch left T8" in text
     assert "Impairment grade (AIS): " in text
 

@@ -4,7 +4,7 @@
     python tools/screenshots.py dashboard       # docs/dashboard.png: the dashboard on the invented demo case
     python tools/screenshots.py ranking-html    # docs/ranking-html.png: a ranking's _repr_html_ as a notebook shows it
 
-The dashboard is served by `cordmap.serve` on a free 127.0.0.1 port with a token (as tests/conftest.py serves it)
+The dashboard is served by `widgets.serve` on a free 127.0.0.1 port with a token (as tests/conftest.py serves it)
 and photographed in headless Chromium (/usr/bin/chromium through playwright's executable_path) at 1366 px wide,
 once the first ranking and its cross-section are drawn. The ranking view is the HTML Jupyter would render for the
 invented demo case, in a page styled like a notebook cell. Needs Voilà, the playwright package and Chromium; talks
@@ -22,8 +22,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from cordmap import demo, rank, serve  # noqa: E402
+from cordmap import demo, rank  # noqa: E402
 from tests.dashboard_page import CHROMIUM, CHROMIUM_ARGS, browser_missing, wait_idle  # noqa: E402
+from widgets import serve  # noqa: E402
 
 DOCS = ROOT / "docs"
 WIDTH = 1280  # the notebook view

@@ -7,17 +7,11 @@ import functools
 import ipywidgets as W
 
 from cordmap import cautions
+from cordmap.classify import classification_line
 
 from .labels import esc
 
 VERDICT = {"poor": "Poor fit", "normal": "Normal", "empty": "Nothing entered"}
-
-
-def _reason(h) -> str:
-    """The hypothesis' one-line reason without its own name in front."""
-    name = h.lesion.describe()
-    s = h.summary
-    return s[len(name):].lstrip(" :—-") if s.startswith(name) else s
 
 
 class HypothesesPanel:
@@ -69,7 +63,7 @@ class HypothesesPanel:
                                f"({h0.probability:.0%})")
         else:
             self.lead.value = "Leading: <b class='cm-lead-text'>none</b>"
-        self.specific.value = "<br>".join(f"• {esc(c)}" for c in r.cautions if c not in cautions.GENERAL)
+        self.specific.value = "<br>".join(f"• {esc(c)}" for c in cautions.specific(r.cautions))
 
     def show_list(self) -> None:
         """The ranked list and the facts of the hypothesis on show."""
@@ -84,7 +78,7 @@ class HypothesesPanel:
             width = max(1, round(90 * h.probability))
             text.value = (f"<span class='cm-bartrack'><span class='cm-bar' style='width:{width}px'></span></span>"
                           f"<b>{esc(h.lesion.describe())}</b> {h.probability:.0%}<br>"
-                          f"<span class='cm-why'>{esc(_reason(h))}</span>")
+                          f"<span class='cm-why'>{esc(h.reason)}</span>")
             sel = "cm-selected" in row._dom_classes
             if (i == st.selected) != sel:
                 (row.add_class if i == st.selected else row.remove_class)("cm-selected")
@@ -114,11 +108,4 @@ class HypothesesPanel:
         c = self.state.ranking.classification
         if c is None:
             return "classification of the entered exam: not available"
-        d = c.to_dict() if hasattr(c, "to_dict") else dict(c)
-        try:
-            return (f"classification of the entered exam: AIS <b>{esc(d['ais'])}</b>, neurological level "
-                    f"<b>{esc(d['neurological_level'])}</b>, sensory {esc(d['sensory_level']['left'])}/"
-                    f"{esc(d['sensory_level']['right'])}, motor {esc(d['motor_level']['left'])}/"
-                    f"{esc(d['motor_level']['right'])} (left/right)")
-        except (KeyError, TypeError):
-            return f"classification: {esc(d)}"
+        return f"classification of the entered exam: {esc(classification_line(c))}"

@@ -7,19 +7,17 @@ from __future__ import annotations
 
 import html
 
+from cordmap import items
 from cordmap.errors import CordmapError
-from cordmap.findings import item_label, item_values
+from cordmap.findings import item_label
 
 CYCLE = {None: 2, 2: 1, 1: 0, 0: None}  # a click: not examined -> normal -> impaired -> absent -> not examined
 # not examined is a no-break space, not "": the browser's button view keeps its old text for an empty description
 GLYPH = {None: "\u00a0", 2: "2", 1: "1", 0: "0"}
-GRADE_WORD = {None: "not examined", 2: "normal", 1: "impaired", 0: "absent"}
-MOD_WORD = {"pinprick": "pinprick", "temperature": "temperature", "light_touch": "light touch",
-            "vibration": "vibration", "joint_position": "joint position"}
-SIGN_WORD = {"voluntary_anal_contraction": "voluntary anal contraction", "deep_anal_pressure": "deep anal pressure",
-             "bulbocavernosus": "bulbocavernosus reflex", "bladder": "bladder", "diaphragm": "diaphragm"}
-REFLEX_WORD = {"finger_flexors": "finger flexors", "abdominal_upper": "abdominal, upper",
-               "abdominal_lower": "abdominal, lower", "hoffmann": "Hoffmann sign"}
+# the words of items and values are the registry's (`cordmap.items`)
+GRADE_WORD = {None: "not examined", **dict(zip(items.SENSORY_SCALE.values, items.SENSORY_SCALE.words))}
+MOD_WORD = items.MODALITY_WORDS
+SIGN_WORD = {name: e.words for name, e in items.SIGNS.items()}
 # the sensations the body picture can show, in the order a clinician usually tests them
 PICTURE_MODALITIES = ("pinprick", "light_touch", "vibration", "temperature", "joint_position")
 
@@ -34,7 +32,7 @@ def esc(text) -> str:
 
 
 def reflex_word(name: str) -> str:
-    return REFLEX_WORD.get(name, name.replace("_", " "))
+    return items.REFLEXES[name].words
 
 
 def to_option(value) -> str:
@@ -50,17 +48,16 @@ def to_option(value) -> str:
 def from_option(key: tuple, text: str):
     if text == "":
         return None
-    for v in (*item_values(key), "NT"):
+    for v in items.allowed(key):
         if to_option(v) == text:
             return v
     raise CordmapError(f"{item_label(key)}: unknown value {text!r}")
 
 
 def options(key: tuple) -> list[tuple[str, str]]:
-    values = list(item_values(key)) + (["NT"] if key[0] == "motor" else [])
-    return [("–", "")] + [(to_option(v), to_option(v)) for v in values]
+    return [("–", "")] + [(to_option(v), to_option(v)) for v in items.allowed(key)]
 
 
 def allowed(key: tuple) -> tuple:
     """The values an item may take in the app (a key muscle may also be 'NT', not testable)."""
-    return (*item_values(key), *(["NT"] if key[0] == "motor" else []))
+    return items.allowed(key)

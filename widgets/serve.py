@@ -1,8 +1,10 @@
-"""`cordmap serve`: the Voilà dashboard on 127.0.0.1.
+"""`cordmap serve`: the Voilà dashboard on 127.0.0.1 (the front end's launcher: the core never imports it; the
+command imports it when run).
 
-The findings file reaches the notebook through the environment variable ``CORDMAP_FINDINGS``. The kernel
-websocket sets TCP_NODELAY (`NoDelayWebsocketConnection`): without it every second message of a quick pair waits
-for a delayed ACK, about 40 ms per round trip.
+The page is the one dashboard notebook, `widgets/share/cordmap.ipynb`: package data, so a checkout and an
+installed copy serve the same page (`dashboards/cordmap.ipynb` is a link to it). The findings file reaches the
+notebook through the environment variable ``CORDMAP_FINDINGS``. What runs inside the server's own process (the
+kernel websocket with TCP_NODELAY, the session cap, Voilà with the Host check) is `widgets/voila_server.py`.
 
 Bounded and closed by default (each page load starts a kernel of about 290 MB):
 
@@ -10,8 +12,8 @@ Bounded and closed by default (each page load starts a kernel of about 290 MB):
   never arrives, by Jupyter server's culler: a kernel with no open tab and no activity for ``idle_timeout``
   seconds is shut down (``MappingKernelManager.cull_idle_timeout``, ``cull_interval``; ``cull_connected`` stays
   False, so an open tab keeps its exam however long the clinician is away);
-* at most ``max_sessions`` kernels at once (`CappedKernelManager`); the next page load gets a page that says so
-  (HTTP 503, ``error.html`` of the cordmap template);
+* at most ``max_sessions`` kernels at once (`voila_server.CappedKernelManager`); the next page load gets a page
+  that says so (HTTP 503, ``error.html`` of the cordmap template);
 * a random token in the address by default (``--no-token`` for a single-user laptop); it reaches the server in
   the environment (``CORDMAP_SERVE_TOKEN``), not on the command line where other users' ``ps`` would show it;
 * the Host header is checked (Jupyter server's own check: loopback addresses and ``localhost`` only), against
@@ -31,95 +33,28 @@ import tempfile
 import time
 from pathlib import Path
 
-from .cautions import BANNER
-from .errors import CordmapError
+from cordmap.cautions import BANNER
+from cordmap.errors import CordmapError
+
+from .voila_server import ENV_TOKEN, MAX_SESSIONS  # noqa: F401 (the server process' settings; re-exported)
 
 ENV_FINDINGS = "CORDMAP_FINDINGS"
 DEFAULT_PORT = 8866
 IOPUB_TIMEOUT = 60  # seconds
 IDLE_TIMEOUT = 600  # seconds a kernel with no open tab may stay idle before it is shut down
 CULL_INTERVAL = 60  # seconds between the culler's rounds
-MAX_SESSIONS = 8  # kernels at once; about 290 MB each
-ENV_TOKEN = "CORDMAP_SERVE_TOKEN"  # the token reaches the server here; `run_voila` takes it out of the environment
-NOTEBOOK = Path(__file__).resolve().parent.parent / "dashboards" / "cordmap.ipynb"
-NOTEBOOK_TEXT = """{"cells": [{"cell_type": "code", "execution_count": null, "id": "cell-0", "metadata": {},
- "outputs": [], "source": ["import widgets\\n", "app = widgets.dashboard()\\n", "app.widget"]}],
- "metadata": {"kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"}},
- "nbformat": 4, "nbformat_minor": 5}
-"""
+SHARE = Path(__file__).resolve().parent / "share"
+NOTEBOOK = SHARE / "cordmap.ipynb"  # package data; dashboards/cordmap.ipynb links here
 
-try:
-    from jupyter_server.services.kernels.connection.channels import ZMQChannelsWebsocketConnection
-except ImportError:  # the [app] extra is not installed; serve() says so
-    ZMQChannelsWebsocketConnection = None
+# what runs inside the Voila server's own process (`widgets/voila_server.py`), named by these dotted paths
+CONNECTION_CLASS = "widgets.voila_server.NoDelayWebsocketConnection"
+KERNEL_MANAGER_CLASS = "widgets.voila_server.CappedKernelManager"
 
-if ZMQChannelsWebsocketConnection is not None:
-    class NoDelayWebsocketConnection(ZMQChannelsWebsocketConnection):
-        """The stock kernel websocket with Nagle's algorithm switched off."""
-
-        def connect(self):
-            try:
-                self.websocket_handler.set_nodelay(True)
-            except Exception:  # noqa: BLE001 - an older server without the handler: keep the stock behaviour
-                pass
-            return super().connect()
-else:
-    NoDelayWebsocketConnection = None
-
-CONNECTION_CLASS = "cordmap.serve.NoDelayWebsocketConnection"
-KERNEL_MANAGER_CLASS = "cordmap.serve.CappedKernelManager"
-
-try:
-    from jupyter_server.services.kernels.kernelmanager import AsyncMappingKernelManager
-except ImportError:
-    AsyncMappingKernelManager = None
-
-if AsyncMappingKernelManager is not None:
-    from tornado import web
-    from traitlets import Integer
-
-    class CappedKernelManager(AsyncMappingKernelManager):
-        """Jupyter server's kernel manager with a cap on the kernels alive at once: past it, a page load gets
-        HTTP 503 and the cordmap template's page that says the dashboard is full."""
-
-        max_kernels = Integer(MAX_SESSIONS, config=True, help="kernels (dashboard sessions) alive at once")
-
-        async def start_kernel(self, **kwargs):
-            if kwargs.get("kernel_id") is None and len(self.list_kernel_ids()) >= self.max_kernels:
-                raise web.HTTPError(503, f"all {self.max_kernels} dashboard sessions of this server are in use",
-                                    reason="Dashboard full")
-            return await super().start_kernel(**kwargs)
-else:
-    CappedKernelManager = None
-
-
-def run_voila() -> None:
-    """The Voilà server (run by `VOILA_LAUNCHER` in the server process): Voilà with Jupyter server's Host header
-    check switched back on (Voilà turns it off with ``allow_remote_access=True``) and the token taken out of the
-    environment once read, so kernels do not inherit it."""
-    from voila.app import Voila
-
-    class CordmapVoila(Voila):
-        def init_settings(self):
-            secret = os.environ.pop(ENV_TOKEN, "")
-            if secret:
-                self.token = secret
-            settings = super().init_settings()
-            settings["allow_remote_access"] = False
-            settings["local_hostnames"] = ["localhost"]
-            return settings
-
-    CordmapVoila.launch_instance()
 TEMPLATE = "cordmap"  # widgets/share/voila/templates/cordmap: the lab page without outside CDN links
 
 
 def _template_share() -> str | None:
-    try:
-        import widgets
-    except ImportError:
-        return None
-    share = Path(widgets.__file__).resolve().parent / "share"
-    return str(share) if (share / "voila" / "templates" / TEMPLATE).is_dir() else None
+    return str(SHARE) if (SHARE / "voila" / "templates" / TEMPLATE).is_dir() else None
 
 
 def free_port(host: str = "127.0.0.1") -> int:
@@ -150,13 +85,11 @@ def wait_for_port(port: int, host: str = "127.0.0.1", timeout: float = 30.0, pro
     return False
 
 
-def notebook_path(workdir: str | os.PathLike) -> Path:
-    """The dashboard notebook: the repository's copy, else a minimal one written into `workdir`."""
-    if NOTEBOOK.exists():
-        return NOTEBOOK
-    path = Path(workdir) / "cordmap.ipynb"
-    path.write_text(NOTEBOOK_TEXT, encoding="utf-8")
-    return path
+def notebook_path() -> Path:
+    """The dashboard notebook (package data: the same page from a checkout and from an installed copy)."""
+    if not NOTEBOOK.is_file():
+        raise CordmapError(f"{NOTEBOOK}: the dashboard notebook is missing; reinstall cordmap[app]")
+    return NOTEBOOK
 
 
 # Voila run as `python -m voila`, except that the optional IRI checker of jsonschema (the rfc3987_syntax package,
@@ -164,7 +97,7 @@ def notebook_path(workdir: str | os.PathLike) -> Path:
 # 2.4 s start here (python -X importtime), and the server validates no IRI-format fields. jsonschema skips a
 # format checker whose package is missing.
 VOILA_LAUNCHER = ("import sys; sys.modules.setdefault('rfc3987_syntax', None); "
-                  "from cordmap.serve import run_voila; run_voila()")
+                  "from widgets.voila_server import run_voila; run_voila()")
 
 
 def voila_command(port: int, notebook: Path, connection_dir: str, host: str = "127.0.0.1",
@@ -196,17 +129,25 @@ def server_env(findings: str | os.PathLike | None = None, token: str = "") -> di
         env[ENV_TOKEN] = token
     if findings is not None:
         env[ENV_FINDINGS] = str(Path(findings).resolve())
-    root = str(Path(__file__).resolve().parent.parent)  # so the kernel imports this cordmap and widgets
     share = _template_share()
     if share:
         env["JUPYTER_PATH"] = os.pathsep.join(p for p in (share, env.get("JUPYTER_PATH", "")) if p)
-    env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    root = checkout_root()
+    if root:  # run from a source checkout: the kernel imports this cordmap and widgets (never site-packages)
+        env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
     # one BLAS thread per kernel (unless the caller chose): every session is a kernel of its own, and on a 2-core
     # machine the thread pools of several kernels fought for the cores (a ranking 1.5-2x slower under load,
     # benchmarks/bench_dashboard.py, issue 16)
     for name in BLAS_THREADS:
         env.setdefault(name, "1")
     return env
+
+
+def checkout_root() -> str | None:
+    """The source checkout this front end runs from (the folder holding pyproject.toml and cordmap/), or None for
+    an installed copy, which the kernel imports as the server does."""
+    root = Path(__file__).resolve().parent.parent
+    return str(root) if (root / "pyproject.toml").is_file() and (root / "cordmap").is_dir() else None
 
 
 def new_token() -> str:
@@ -218,7 +159,7 @@ def start(port: int, findings=None, host: str = "127.0.0.1", connection_dir: str
           cull_interval: int = CULL_INTERVAL, max_sessions: int = MAX_SESSIONS) -> tuple[subprocess.Popen, str]:
     """Start Voilà in its own process group; returns (process, connection dir). `token` "" serves without one."""
     cdir = connection_dir or tempfile.mkdtemp(prefix="cordmap-voila-")
-    cmd = voila_command(port, notebook_path(cdir), cdir, host, idle_timeout=idle_timeout,
+    cmd = voila_command(port, notebook_path(), cdir, host, idle_timeout=idle_timeout,
                         cull_interval=cull_interval, max_sessions=max_sessions)
     proc = subprocess.Popen(cmd, env=server_env(findings, token), start_new_session=True, stdout=stdout,
                             stderr=stderr)
@@ -243,11 +184,11 @@ def stop(proc: subprocess.Popen, timeout: float = 10.0) -> None:
 def serve(port: int | None = None, findings=None, host: str = "127.0.0.1", token: bool = True,
           idle_timeout: int = IDLE_TIMEOUT, max_sessions: int = MAX_SESSIONS) -> int:
     """Serve the dashboard until Ctrl-C; returns an exit code (0 ok, 2 bad input or a server that would not start)."""
-    if NoDelayWebsocketConnection is None or not _has_voila():
+    if not _has_voila():
         print("cordmap serve: Voila is not installed; pip install 'cordmap[app]'", file=sys.stderr)
         return 2
     if findings is not None:
-        from .findings import parse
+        from cordmap.findings import parse
 
         try:
             parse(Path(findings))
@@ -303,6 +244,8 @@ def _stop_on_sigterm() -> None:
 def _has_voila() -> bool:
     try:
         import voila  # noqa: F401
+
+        from .voila_server import NoDelayWebsocketConnection
     except ImportError:
         return False
-    return True
+    return NoDelayWebsocketConnection is not None
