@@ -16,21 +16,24 @@ from . import observation
 from .anatomy import anatomy, cord_region, family_priors
 from .findings import item_values
 from .lesions import NORMAL, PATTERNS
+from .nerves import nerve_ids
 
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
 UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly normal (effectively zero)
 
 # Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
 # dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
-OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", NORMAL)
+OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", *nerve_ids(), NORMAL)
 
 
 
 def _abnormal(key, value) -> bool:
     if key[0] == "sensory":
         return value != 2
-    if key[0] == "motor":
+    if key[0] in ("motor", "muscle"):
         return value != 5
+    if key[0] in ("tenderness", "band_pain"):  # clues (findings format 2): recorded only where found
+        return True
     if key[0] == "reflex":
         return value not in ("normal", "present", "flexor") or (key[2] == "hoffmann" and value == "present")
     if key[1] == "horner":

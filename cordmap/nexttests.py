@@ -21,6 +21,7 @@ import numpy as np
 from .anatomy import _table, anatomy
 from .errors import CordmapError
 from .findings import Findings, item_values
+from .nerves import limb_muscles, nerve_ids
 
 POOL = 200  # candidates the ranking hands over (its leading ones); the classes' own candidates are added here
 ALTERNATIVES = 3  # management classes weighed besides the leading one
@@ -32,7 +33,8 @@ MIN_GAIN = 1e-4  # nats: below this a test tells nothing worth an examiner's min
 COMPARTMENTS = ("cord compression", "within the cord", "root", "cauda equina or conus", "outside the spine",
                 "no lesion")
 _COMPARTMENT = {"lateral_compression": 0, "anterior_compression": 0, "posterior_compression": 0,
-                "root": 2, "cauda_equina": 3, "conus": 3, "polyneuropathy": 4, "normal": 5}  # others: 1
+                "root": 2, "cauda_equina": 3, "conus": 3, "polyneuropathy": 4, "normal": 5,
+                **{n: 4 for n in nerve_ids()}}  # others: 1
 REGIONS = ("cervical spine", "upper thoracic spine", "lower thoracic spine", "lumbosacral spine")
 SIDE_CODE = {"left": 0, "right": 1, "both": 2}
 
@@ -103,6 +105,8 @@ def finding_words(key: tuple) -> str:
         return f"{what} on the {side} at {place} ({derm})"
     if kind == "motor":
         return f"{key[1]} {anatomy().muscle_name(key[2])} strength ({key[2]})"
+    if kind == "muscle":
+        return f"{key[1]} {key[2].replace('_', ' ')} strength ({limb_muscles()[key[2]][0]})"
     if kind == "reflex":
         return f"{key[1]} {_REFLEX_WORDS.get(key[2], key[2].replace('_', ' '))}"
     if key[1] == "horner":
@@ -113,7 +117,7 @@ def finding_words(key: tuple) -> str:
 def answer_words(key: tuple, value) -> str:
     if key[0] == "sensory":
         return ("absent", "impaired", "normal")[value]
-    if key[0] == "motor":
+    if key[0] in ("motor", "muscle"):
         return f"grade {value}"
     if isinstance(value, bool):
         return "present" if value else "absent"

@@ -16,7 +16,7 @@ import pandas as pd
 
 from . import atlas as atlas_mod
 from . import cautions as C
-from . import nexttests, observation
+from . import clues, nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, item_label, item_values, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
@@ -248,6 +248,9 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     seen = raw * w[:, None]  # ...weighted (observation.item_weights)
     ll = seen.sum(axis=0, dtype=np.float32) if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
+    clue = clues.log_likelihood(f, at)  # tenderness and band pain (findings format 2); None without them
+    if clue is not None:
+        lp = lp + clue
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
     leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
@@ -305,7 +308,7 @@ def _ranges(derms: list[str]) -> str:
 def _grade_word(key, value) -> str:
     if key[0] == "sensory":
         return ("absent", "impaired", "normal")[value]
-    if key[0] == "motor":
+    if key[0] in ("motor", "muscle"):
         return f"grade {value}"
     if key[0] == "sign" and isinstance(value, bool):
         return "present" if value else "absent"
@@ -383,7 +386,12 @@ def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
     for e, f in enumerate(exams):
         cols, _, w = evidence(f, at)
         onehot[e, cols] = w
-    return onehot @ at.logp + size_prior(at)[None, :]
+    out = onehot @ at.logp + size_prior(at)[None, :]
+    for e, f in enumerate(exams):  # the clues of findings format 2, as rank adds them
+        clue = clues.log_likelihood(f, at)
+        if clue is not None:
+            out[e] += clue
+    return out
 
 
 def batch_leaders(at: atlas_mod.Atlas, score: np.ndarray, n: int = 2) -> list[tuple[Lesion, float, tuple, tuple]]:

@@ -36,7 +36,7 @@ def reference_predict(lesion: Lesion):
 
 
 def assert_same_readout(a, b, what):
-    for name in ("sensory", "motor", "motor_umn", "motor_lmn"):
+    for name in ("sensory", "motor", "motor_umn", "motor_lmn", "muscles", "muscles_umn", "muscles_lmn"):
         x, y = getattr(a, name), getattr(b, name)
         assert x.dtype == y.dtype and x.shape == y.shape, (what, name)
         assert np.array_equal(x, y), (what, name, float(np.abs(x - y).max()))
