@@ -144,8 +144,8 @@ def apply(r, code: np.ndarray, side: np.ndarray, severity: np.ndarray):
     """The readout `r` with each nerve candidate's losses laid over it (others unchanged); a new Readout."""
     from dataclasses import replace
 
-    from .forward import ARC_ABSENT, ARC_REDUCED, umn_weakness
     from .findings import TENDON_GRADES
+    from .forward import ARC_ABSENT, ARC_REDUCED, umn_weakness
 
     rows = np.flatnonzero(code >= 0)
     if not len(rows):

@@ -13,6 +13,7 @@ from dataclasses import fields
 
 import numpy as np
 
+from . import nerves
 from .anatomy import MODALITIES, REFLEXES, SIDES, anatomy
 from .findings import SIGNS, Findings, reflex_values
 from .forward import (
@@ -24,10 +25,9 @@ from .forward import (
     readout,
     with_neuropathy,
 )
-from . import nerves
 from .lesions import CUSTOM, Lesion, lesion_masks
-from .nerves import muscle_names
 from .model import DEFAULT_RESOLUTION, sections
+from .nerves import muscle_names
 
 SIGN_KEYS = (("horner", "left"), ("horner", "right"), *((name, "") for name in SIGNS))
 
