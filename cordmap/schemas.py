@@ -5,8 +5,8 @@ cordmap; ``python -m cordmap.schemas`` rewrites them from `build()`, and ``tests
 shipped files equal what `build()` makes and that schema and reader agree (the differences a schema cannot express
 are listed there). This module needs no JSON Schema library: it only writes dicts.
 
-* ``findings.schema.json``: ``cordmap-findings/1`` and ``/2`` as `cordmap.findings.parse` reads them (text grades are matched
-  as the reader matches them: surrounding whitespace ignored, any case);
+* ``findings.schema.json``: ``cordmap-findings/1`` and ``/2`` as `cordmap.findings.parse` reads them (text grades
+  are matched as the reader matches them: surrounding whitespace ignored, any case);
 * ``batch-line.schema.json``: one line of a JSONL cohort (a findings document with an optional ``case_id``);
 * ``ranking.schema.json``: ``cordmap-ranking/1`` as `Ranking.to_dict` writes it;
 * ``classification.schema.json``: ``cordmap-classification/1`` as `Classification.to_dict` writes it.
