@@ -20,6 +20,11 @@ SIGN_WORD = {"voluntary_anal_contraction": "voluntary anal contraction", "deep_a
              "bulbocavernosus": "bulbocavernosus reflex", "bladder": "bladder", "diaphragm": "diaphragm"}
 REFLEX_WORD = {"finger_flexors": "finger flexors", "abdominal_upper": "abdominal, upper",
                "abdominal_lower": "abdominal, lower", "hoffmann": "Hoffmann sign"}
+# the non-key muscles of findings format 2, in a column header's few words
+LIMB_WORD = {"shoulder_abduction": "shoulder abd.", "forearm_pronation": "forearm pron.",
+             "finger_extension": "finger ext.", "thumb_abduction": "thumb abd.", "index_finger_abduction": "index abd.",
+             "hip_adduction": "hip add.", "hip_abduction": "hip abd.", "knee_flexion": "knee flex.",
+             "ankle_inversion": "ankle inv.", "ankle_eversion": "ankle ev."}
 # the sensations the body picture can show, in the order a clinician usually tests them
 PICTURE_MODALITIES = ("pinprick", "light_touch", "vibration", "temperature", "joint_position")
 
@@ -57,10 +62,10 @@ def from_option(key: tuple, text: str):
 
 
 def options(key: tuple) -> list[tuple[str, str]]:
-    values = list(item_values(key)) + (["NT"] if key[0] == "motor" else [])
+    values = list(item_values(key)) + (["NT"] if key[0] in ("motor", "muscle") else [])
     return [("–", "")] + [(to_option(v), to_option(v)) for v in values]
 
 
 def allowed(key: tuple) -> tuple:
     """The values an item may take in the app (a key muscle may also be 'NT', not testable)."""
-    return (*item_values(key), *(["NT"] if key[0] == "motor" else []))
+    return (*item_values(key), *(["NT"] if key[0] in ("motor", "muscle") else []))
