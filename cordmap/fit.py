@@ -1,6 +1,8 @@
 """The fit verdict: does one lesion explain the exam, or would a second, separate one explain it much better?"""
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from . import atlas as atlas_mod
@@ -46,22 +48,30 @@ def best_pair(at, items: list[tuple], recorded_values: list, seen: np.ndarray, l
     rows = np.array([at.item_index[k] for k in items])
     lead = int(firsts[0])
     best = (lead, lead, float(ll[lead]))  # no second lesion: the single best
-    firsts = np.array([i for i in firsts if at.pattern_of[i] in PAIRABLE], dtype=np.int64)
+    firsts = np.asarray(firsts, dtype=np.int64)
+    firsts = firsts[_masks(at).pairable[firsts]]
     # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
     # first lesion tried explains all the abnormal findings, there is nothing to search for.
     recorded = np.array([_abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
-    unexplained = recorded[:, None] & (at.abnormal[rows][:, firsts] == 0)
+    unexplained = recorded[:, None] & (at.abnormal[np.ix_(rows, firsts)] == 0)
     if not len(firsts) or not unexplained.any():
         return best
-    pos = (at.abnormal[rows] > 0).astype(np.float32)  # (examined, candidates): j predicts the item abnormal
-    z = (pos[:, firsts] == 0).T.astype(np.float32)  # (firsts, examined): i predicts the item normal
-    # gain[k, j]: the change in fit from adding j to firsts[k], over the items firsts[k] predicts normal and j not
-    gain = z @ (seen * pos) - (z * seen[:, firsts].T) @ pos
-    for k, i in enumerate(firsts):
-        g = np.where(separate(at, int(i)), gain[k], -np.inf)
-        j = int(g.argmax())
-        if ll[i] + g[j] > best[2]:
-            best = (int(i), j, float(ll[i] + g[j]))
+    m = _masks(at)
+    root_level = m.root_level[firsts]
+    # a cord lesion pairs with a root-level lesion only (separate()), so only those columns are scored for it
+    for group, cols in ((firsts[~root_level], m.root_level_index), (firsts[root_level], m.pairable_index)):
+        if not len(group):
+            continue
+        pos = (at.abnormal[np.ix_(rows, cols)] > 0).astype(np.float32)  # (examined, cols): j predicts abnormal
+        z = (at.abnormal[np.ix_(rows, group)] == 0).T.astype(np.float32)  # (group, examined): i predicts normal
+        # gain[k, j]: the change in fit from adding cols[j] to group[k], over the items group[k] predicts normal
+        # and cols[j] not
+        gain = z @ (seen[:, cols] * pos) - (z * seen[:, group].T) @ pos
+        for k, i in enumerate(group):
+            g = np.where(separate(at, int(i))[cols], gain[k], -np.inf)
+            j = int(g.argmax())
+            if ll[i] + g[j] > best[2]:
+                best = (int(i), int(cols[j]), float(ll[i] + g[j]))
     return best
 
 
@@ -70,21 +80,19 @@ def separate(at, i: int) -> np.ndarray:
     than PAIR_GAP segments from i's (PAIR_GAP_CORD for two cord lesions), or both lie outside the cord on opposite
     sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
     compression, an intramedullary tumour with a cyst), not two lesions."""
-    d = _derived(at)
-    outside = d.outside
-    gap = np.where(outside | outside[i], PAIR_GAP, PAIR_GAP_CORD)
+    m = _masks(at)
+    gap = np.where(m.outside | m.outside[i], PAIR_GAP, PAIR_GAP_CORD)
     apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
-    sides = d.side
-    opposite = outside & outside[i] & (sides != sides[i]) & (sides != "both") & (sides[i] != "both")
-    ok = (apart | opposite) & _pairable(at)
-    if at.pattern_of[i] not in ROOT_LEVEL:  # a cord lesion pairs with a root-level one only
-        ok &= np.isin(at.pattern_of, ROOT_LEVEL)
+    opposite = (m.outside & m.outside[i] & m.one_side & m.one_side[i]) & (m.side_code != m.side_code[i])
+    ok = (apart | opposite) & m.pairable
+    if not m.root_level[i]:  # a cord lesion pairs with a root-level one only
+        ok &= m.root_level
     # One sac: a cauda equina lesion with another lesion in it is one lesion of the cauda equina (two lumbosacral
     # roots on opposite sides stay a pair: two discs).
-    if at.pattern_of[i] == "cauda_equina":
-        ok &= ~_in_the_sac(at)
-    elif _in_the_sac(at)[i]:
-        ok &= at.pattern_of != "cauda_equina"
+    if m.cauda_equina[i]:
+        ok &= ~m.in_the_sac
+    elif m.in_the_sac[i]:
+        ok &= ~m.cauda_equina
     return ok
 
 
@@ -99,19 +107,35 @@ PAIRABLE = tuple(p.id for p in PATTERNS.values()
 ROOT_LEVEL = ("root", "cauda_equina")
 
 
-def _pairable(at) -> np.ndarray:
-    hit = _PAIRABLE.get(id(at))
+@dataclass(frozen=True)
+class _Masks:
+    """Per-atlas (candidates,) arrays that `separate` and `best_pair` read for every first lesion."""
+    outside: np.ndarray  # a lesion outside the cord
+    one_side: np.ndarray  # a left or right lesion (not "both")
+    side_code: np.ndarray
+    pairable: np.ndarray  # PAIRABLE patterns
+    root_level: np.ndarray  # ROOT_LEVEL patterns
+    cauda_equina: np.ndarray
+    in_the_sac: np.ndarray  # lumbosacral roots in the thecal sac: the cauda equina and roots from L1 down
+    root_level_index: np.ndarray
+    pairable_index: np.ndarray
+
+
+_MASKS: dict[int, tuple] = {}
+
+
+def _masks(at) -> _Masks:
+    hit = _MASKS.get(id(at))
     if hit is None or hit[0] is not at:
-        hit = _PAIRABLE[id(at)] = (at, np.isin(at.pattern_of, PAIRABLE))
+        d = _derived(at)
+        root_level = np.isin(at.pattern_of, ROOT_LEVEL)
+        pairable = np.isin(at.pattern_of, PAIRABLE)
+        cauda = at.pattern_of == "cauda_equina"
+        sac = cauda | ((at.pattern_of == "root") & (at.top >= anatomy().index("L1")))
+        m = _Masks(d.outside, d.side != "both", np.unique(d.side, return_inverse=True)[1].ravel(), pairable,
+                   root_level, cauda, sac, np.flatnonzero(root_level), np.flatnonzero(pairable))
+        hit = _MASKS[id(at)] = (at, m)
     return hit[1]
-
-
-def _in_the_sac(at) -> np.ndarray:
-    """(candidates,) lesions of the lumbosacral roots in the thecal sac: the cauda equina and roots from L1 down."""
-    return (at.pattern_of == "cauda_equina") | ((at.pattern_of == "root") & (at.top >= anatomy().index("L1")))
-
-
-_PAIRABLE: dict[int, tuple] = {}
 
 
 def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, seen: np.ndarray, ll: np.ndarray,

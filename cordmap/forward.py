@@ -232,9 +232,15 @@ PLANTAR_ARC_ABSENT = 0.8
 # Weakness from corticospinal loss is not in proportion to it: a small partial loss spares power (an early
 # myelopathy is spastic with brisk reflexes and at most grade 4 weakness) and losing most of the tract paralyses.
 # The weakness rises linearly from 0 at UMN_RAMP[0] of the lateral tract lost to 1 at UMN_RAMP[1] (a third of the
-# tract -> grade 4, half -> 3, four fifths -> 0-1). Judgement, common clinical practice, no source; lower motor
-# neuron loss weakens in proportion (motor units lost).
+# tract -> grade 4, half -> 3, four fifths -> 0-1). Judgement, common clinical practice, no source.
 UMN_RAMP = (0.25, 0.85)
+# Lower motor neuron loss: strength follows the motor units left, but the MRC scale is far from linear in strength
+# (grade 4 spans most of the range, grade 3, lifting against gravity alone, is a small fraction of normal force:
+# from memory, Beasley, Arch Phys Med Rehabil 1961). A muscle keeping a share r of its motor neurons is graded
+# 5 * r ** LMN_EXPONENT: half kept -> grade 4, a sixth -> 3, a twentieth -> 2 (so a muscle of two segments that
+# loses the minor one keeps grade 4, as the standard's rule that grade 3 or more means the rostral segment is
+# intact implies; ISNCSCI, revised 2019). The exponent is judgement.
+LMN_EXPONENT = 0.32
 LATERAL_CST_SHARE = 0.92  # share of a muscle's corticospinal drive in the lateral tract (as _umn weighs it)
 
 
@@ -242,6 +248,12 @@ def umn_weakness(umn_loss):
     """Weakness 0..1 from a muscle's corticospinal loss (see UMN_RAMP)."""
     lo, hi = UMN_RAMP
     return np.clip((np.asarray(umn_loss) / LATERAL_CST_SHARE - lo) / (hi - lo), 0.0, 1.0)
+
+
+def motor_grade(umn_loss, lmn_loss):
+    """Expected MRC grade from a muscle's corticospinal loss (UMN_RAMP) and motor-neuron loss (LMN_EXPONENT)."""
+    kept = np.clip(1 - np.asarray(lmn_loss), 0.0, 1.0)
+    return 5 * (1 - umn_weakness(umn_loss)) * kept ** LMN_EXPONENT
 
 
 @dataclass(frozen=True)
@@ -401,7 +413,7 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
         for sd in (0, 1):
             u, lo = _umn(L, sd, w), _lmn(L, sd, w)
             mu[:, sd, mi], ml[:, sd, mi] = u, lo
-            motor[:, sd, mi] = 5 * (1 - _comb(umn_weakness(u), lo))
+            motor[:, sd, mi] = motor_grade(u, lo)
     limb = limb_muscles()
     muscles = np.zeros((n, 2, len(limb)), dtype=np.float32)
     gu, gl = np.zeros_like(muscles), np.zeros_like(muscles)
@@ -409,7 +421,7 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
         for sd in (0, 1):
             u, lo = _umn(L, sd, w), _lmn(L, sd, w)
             gu[:, sd, mi], gl[:, sd, mi] = u, lo
-            muscles[:, sd, mi] = 5 * (1 - _comb(umn_weakness(u), lo))
+            muscles[:, sd, mi] = motor_grade(u, lo)
 
     def released_by(sd, segs):
         """Corticospinal loss to the arc's segments, counted only where the arc itself still works."""
@@ -516,13 +528,13 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     acs = 0.5 * (acs_same + acs_other)
     mu = mus.total(mus.weight * (0.92 * cs + 0.08 * acs))
     ml = mus.total(mus.weight * _comb(vh, vr))
-    motor = 5 * (1 - _comb(umn_weakness(mu), ml))
+    motor = motor_grade(mu, ml)
     cs, acs_same, acs_other, vh, vr = np.moveaxis(L[:, t["limb_cols"]], 1, 0)
     limb = t["limb"]
     acs = 0.5 * (acs_same + acs_other)
     gu = limb.total(limb.weight * (0.92 * cs + 0.08 * acs))
     gl = limb.total(limb.weight * _comb(vh, vr))
-    muscles = 5 * (1 - _comb(umn_weakness(gu), gl))
+    muscles = motor_grade(gu, gl)
 
     # reflexes: (n, 2, reflexes, slots)
     dr, en, vh, vr, cs, acs_same, acs_other = np.moveaxis(L[:, t["arc_cols"]], 1, 0)

@@ -28,9 +28,9 @@ from .errors import CordmapError
 
 DEEP_SHARE = 0.15
 KINDS = ("motor", "muscle", "sensory", "reflex")
-# The severities the ranker's atlas tries: 0.3 a mild palsy (grade 4, impaired skin), 0.6 a moderate one, 1 complete
-# (judgement).
-SEVERITY_GRID = (0.3, 0.6, 1.0)
+# The severities the ranker's atlas tries (judgement), on forward.motor_grade's scale: 0.3 a mild palsy (grade 4,
+# impaired skin), 0.7 a moderate one (grade 3), 0.9 a severe one (grade 2, numb), 1 complete.
+SEVERITY_GRID = (0.3, 0.7, 0.9, 1.0)
 
 
 @dataclass(frozen=True)
@@ -145,7 +145,7 @@ def apply(r, code: np.ndarray, side: np.ndarray, severity: np.ndarray):
     from dataclasses import replace
 
     from .findings import TENDON_GRADES
-    from .forward import ARC_ABSENT, ARC_REDUCED, umn_weakness
+    from .forward import ARC_ABSENT, ARC_REDUCED, motor_grade
 
     rows = np.flatnonzero(code >= 0)
     if not len(rows):
@@ -162,7 +162,7 @@ def apply(r, code: np.ndarray, side: np.ndarray, severity: np.ndarray):
         lmn = lmn.copy()
         lmn[rows, sd] = 1 - (1 - lmn[rows, sd]) * (1 - sev * share)
         out = grade.copy()
-        out[rows, sd] = 5 * (1 - (1 - (1 - umn_weakness(umn[rows, sd])) * (1 - lmn[rows, sd])))
+        out[rows, sd] = motor_grade(umn[rows, sd], lmn[rows, sd])
         return out.astype(grade.dtype), lmn
 
     motor, ml = weaken(r.motor, r.motor_umn, r.motor_lmn, m.motor[c])

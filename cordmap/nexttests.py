@@ -235,17 +235,19 @@ def suggest(f: Findings, at, post: np.ndarray, order: np.ndarray, n: int = 5) ->
     candidates = [k for k in at.items if k not in f.items and feasible(k)]
     if not candidates:
         return ()
-    logp = np.asarray(at.logp)[:, pool].astype(np.float64)  # (columns, pool), gathered once
-    gains, tables = [], []
-    for key in candidates:
-        k = at.item_index[key]
-        joint = np.exp(logp[at.offsets[k]:at.offsets[k + 1]]) @ onehot  # (values, classes): P(value, class)
-        pv = joint.sum(axis=1, keepdims=True)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            terms = joint * (np.log(joint) - np.log(pv) - np.log(mass)[None, :])
-        gains.append(float(np.nansum(terms)))
-        tables.append(joint)
-    gains = np.array(gains)
+    # every value row of every candidate item at once: P(value, class) = sum over the pool of P(value | lesion)
+    # times the lesion's weight in its class
+    idx = np.array([at.item_index[k] for k in candidates])
+    starts, stops = at.offsets[idx], at.offsets[idx + 1]
+    rows = np.concatenate([np.arange(a, b) for a, b in zip(starts, stops)])
+    joint_all = np.exp(np.asarray(at.logp)[np.ix_(rows, pool)].astype(np.float64)) @ onehot  # (rows, classes)
+    bounds = np.concatenate([[0], np.cumsum(stops - starts)])
+    row_item = np.repeat(np.arange(len(candidates)), stops - starts)
+    pv = joint_all.sum(axis=1)  # P(value)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        terms = joint_all * (np.log(joint_all) - np.log(pv)[:, None] - np.log(mass)[None, :])
+    gains = np.bincount(row_item, weights=np.nansum(terms, axis=1), minlength=len(candidates))
+    tables = [joint_all[a:b] for a, b in zip(bounds[:-1], bounds[1:])]
     out = []
     for b in np.argsort(-gains, kind="stable")[:n]:
         if gains[b] <= MIN_GAIN:

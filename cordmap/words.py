@@ -28,7 +28,7 @@ def _band(value: float, bands: tuple[tuple[float, str], ...]) -> str:
 _INCOMPLETE = ((0.34, "mild, incomplete"), (0.6, "incomplete"), (0.99, "severe but incomplete"), (1.0, ""))
 # share lost in a diffuse degeneration
 _DEGENERATION = ((0.4, "mild"), (0.7, "moderate"), (1.0, "advanced"))
-_NERVE = ((0.4, "mild, partial"), (0.7, "partial"), (1.0, ""))
+_NERVE = ((0.4, "mild, partial"), (0.8, "partial"), (0.99, "severe, partial"), (1.0, ""))
 _ROOT = ((0.25, "mild, partial"), (0.5, "partial"), (0.8, "severe, partial"), (1.0, ""))
 # how far an extrinsic compression reaches: a side one up to half the cord, a front or back one up to 0.7 of its depth
 _SIDE_DEPTH = ((0.12, "shallow, the roots only"), (0.2, "shallow"), (0.36, "moderately deep"),
