@@ -39,6 +39,9 @@ def _lesion(args, pattern: str) -> Lesion:
     if args.old_bottom is not None:
         _deprecated("--bottom", "--caudal")
         bottom = bottom if bottom is not None else args.old_bottom
+    pat = PATTERNS.get(pattern)
+    if top is None and pat is not None and pat.tops[0] == pat.tops[1]:  # a placeholder (nerve, polyneuropathy)
+        top = pat.tops[0]
     return Lesion(pattern, args.side, top or "T6", bottom, _params(args.param), args.phase)
 
 

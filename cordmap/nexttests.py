@@ -153,7 +153,7 @@ def management_class(at) -> tuple[np.ndarray, list[tuple[int, int, int]]]:
     region = np.where(roots, root_region[at.top], region)
     region = np.where(comp == 3, 3, region)
     region = np.where(comp >= 4, -1, region)
-    side = np.where(comp >= 4, 2, side)
+    side = np.where((comp >= 4) & ~np.isin(at.pattern_of, nerve_ids()), 2, side)  # a nerve lesion keeps its side
     triples, code = np.unique(np.stack([comp, side, region]), axis=1, return_inverse=True)
     classes = [tuple(int(x) for x in triples[:, j]) for j in range(triples.shape[1])]
     code = code.ravel()
@@ -166,7 +166,7 @@ def lesion_class(lesion) -> tuple[int, int, int]:
     a = anatomy()
     comp = _COMPARTMENT.get(lesion.pattern, 1)
     if comp >= 4:
-        return (comp, 2, -1)
+        return (comp, SIDE_CODE[lesion.side] if lesion.pattern in nerve_ids() else 2, -1)
     seg = lesion.top
     if comp == 3:
         region = 3
