@@ -6,12 +6,15 @@ Neither is predicted by the forward model (no fibre loss makes a vertebra tender
 * **Tenderness** at a vertebra: an extrinsic compression (a metastasis, an abscess, a collapsed vertebra) is often
   tender over the vertebra that compresses the cord, and the cord segments at that vertebra (`data/segments.csv`:
   the cord segments lie above the vertebrae of their number) are where its rostral edge lies, not where the
-  sensory loss begins (the outer, sacral fibres are caught first, so the level lies below the lesion: a false
-  localizing level). A compression whose rostral segment lies at the tender vertebra gains TENDER_AT, one a
-  vertebra above or below TENDER_NEAR.
+  sensory loss begins: the outer, sacral fibres of the spinothalamic tract are caught first, so the level may lie
+  several segments below the lesion (a false localizing level). A compression candidate stands for "a compression
+  whose loss begins at its rostral segment t"; the clue says that compression lies at a tender segment s with
+  t - FALSE_LEVEL <= s <= t. Such a candidate gains TENDER_AT; one a vertebra further off TENDER_NEAR. The
+  ranking then adds the tender vertebra to that hypothesis' imaging window (`with_windows`).
 * **Band-like or radicular pain** at a dermatome on one side: the root of that dermatome is irritated, by a root
-  lesion or by a compression at that segment. A root lesion of that segment and side, or a compression whose
-  rostral segment is that segment or the one above (one lying on that side, or in the midline), gains BAND_AT.
+  lesion or by a compression at that segment. A root lesion of that segment and side, or a compression (on that
+  side or in the midline) lying at that segment with its loss beginning there or up to FALSE_LEVEL segments lower,
+  gains BAND_AT.
 
 Every other candidate gains nothing, so the clue speaks only for the lesions it localizes, as a likelihood ratio:
 P(clue | such a lesion at that level) / P(clue | any other lesion). Several tender vertebrae (or painful dermatomes)
@@ -33,6 +36,10 @@ TENDER_AT = float(np.log(3.0))  # likelihood ratio 3 at the tender vertebra (jud
 TENDER_NEAR = float(np.log(1.5))  # 1.5 a vertebra above or below (the segment-to-vertebra rule's spread)
 BAND_AT = float(np.log(3.0))  # likelihood ratio 3 for a root or compression at the band's segment (judgement)
 COMPRESSIONS = ("lateral_compression", "anterior_compression", "posterior_compression")
+# How far below an extrinsic compression its sensory level may lie, in cord segments: false localizing levels
+# several segments below a thoracic compression are classic (from memory, standard neurology teaching on the
+# lamination of the spinothalamic tract); four is judgement.
+FALSE_LEVEL = 4
 
 
 def has_clues(f) -> bool:
@@ -70,7 +77,7 @@ def log_likelihood(f, at) -> np.ndarray | None:
         best = np.zeros(len(top), dtype=np.float32)
         for v in tender:
             near = [i for w in _vertebra_neighbours(v) for i in segments_at(w)]
-            gain = np.where(np.isin(top, segments_at(v)), TENDER_AT, np.where(np.isin(top, near), TENDER_NEAR, 0.0))
+            gain = np.where(_below(top, segments_at(v)), TENDER_AT, np.where(_below(top, near), TENDER_NEAR, 0.0))
             best = np.maximum(best, np.where(compression, gain, 0.0))
         out += best
     band = [(k[1], k[2]) for k in f.items if k[0] == "band_pain"]
@@ -80,11 +87,41 @@ def log_likelihood(f, at) -> np.ndarray | None:
         for side, derm in band:
             segs = a.dermatome_segments[derm]
             root = (pat == "root") & np.isin(top, segs) & (sides == side)
-            above = [j - 1 for j in segs if j > 0]
-            comp = compression & np.isin(top, [*segs, *above]) & np.isin(sides, (side, "both"))
+            comp = compression & _below(top, segs) & np.isin(sides, (side, "both"))
             best = np.maximum(best, np.where(root | comp, BAND_AT, 0.0))
         out += best
     return out
+
+
+def _below(top: np.ndarray, segs) -> np.ndarray:
+    """Whether a loss beginning at `top` lies at one of `segs` or up to FALSE_LEVEL segments below it."""
+    out = np.zeros(top.shape, dtype=bool)
+    for s in segs:
+        out |= (top >= s) & (top <= s + FALSE_LEVEL)
+    return out
+
+
+def with_windows(h, f):
+    """Hypothesis `h` with the tender vertebrae its compression may lie at added to its imaging window."""
+    from dataclasses import replace
+
+    from .imaging import Window, merge_levels
+
+    lz = h.lesion
+    if lz.pattern not in COMPRESSIONS:
+        return h
+    top = np.array([lz.top_index])
+    extra = []
+    for v in (k[1] for k in f.items if k[0] == "tenderness"):
+        near = [i for w in (v, *_vertebra_neighbours(v)) for i in segments_at(w)]
+        if _below(top, near)[0]:
+            extra.append(Window((v,), f"tender to percussion at {v}: an extrinsic compression may lie there, above "
+                                      f"where the sensory loss begins (a false localizing level)"))
+    if not extra:
+        return h
+    imaging = (*h.imaging, *extra)
+    levels = merge_levels([h.vertebral_levels, *[w.levels for w in extra]])
+    return replace(h, imaging=imaging, vertebral_levels=levels)
 
 
 def clue_words(f) -> list[str]:

@@ -272,6 +272,8 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     hyps = () if fit == "empty" else tuple(
         _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d)
         for r, (members, gp) in enumerate(leading[:max(top, 1)]))
+    if clue is not None:  # a compression may lie at a tender vertebra above its level: image it too
+        hyps = tuple(clues.with_windows(h, f) for h in hyps)
     segs = anatomy().segments
     names = d.pattern_names
     sums = np.bincount(d.pattern_code, weights=post, minlength=len(names))

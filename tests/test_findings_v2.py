@@ -315,13 +315,22 @@ def test_band_pain_speaks_for_the_root_of_its_dermatome():
 
 
 def test_a_clue_moves_a_thoracic_compression_toward_the_tender_vertebra():
-    # spastic legs, a T10 pinprick level: an intrinsic lesion and a compression compete; percussion tenderness at
-    # the T6 vertebra favours the compression (judgement, clues.py)
+    # spastic legs, a T10 pinprick level, vibration lost at the ankles: an intrinsic lesion and a compression
+    # compete; percussion tenderness at the T6 vertebra favours the compression (judgement, clues.py)
     base = {"format": "cordmap-findings/2",
-            "sensory": {"pinprick": {s: {"C2-T9": "normal", "T10-S4-5": "impaired"} for s in ("left", "right")}},
+            "sensory": {"pinprick": {s: {"C2-T9": "normal", "T10-S4-5": "impaired"} for s in ("left", "right")},
+                        "vibration": {s: {"L4-L5": "impaired"} for s in ("left", "right")}},
             "motor": {s: {m: 4 for m in ("L2", "L3", "L4", "L5", "S1")} for s in ("left", "right")},
-            "reflexes": {s: {"knee": "brisk", "plantar": "extensor"} for s in ("left", "right")}}
+            "reflexes": {s: {"knee": "brisk", "ankle": "brisk", "plantar": "extensor"} for s in ("left", "right")}}
     plain = rank(base, next_tests=0, classify=False)
     tender = rank({**base, "tenderness": ["T6"]}, next_tests=0, classify=False)
     mass = lambda r: sum(h.probability for h in r.hypotheses if "compression" in h.lesion.pattern)  # noqa: E731
     assert mass(tender) > mass(plain)
+    assert "compression" in tender.best.lesion.pattern
+    # tender well above the level (the T3 vertebra: cord segment T5): the compression may lie there, above where
+    # its loss begins (a false localizing level, clues.FALSE_LEVEL), so its window reaches the tender vertebra
+    high = rank({**base, "tenderness": ["T3"]}, next_tests=0, classify=False)
+    assert "compression" in high.best.lesion.pattern and "T3" in high.best.vertebral_levels
+    assert any("false localizing level" in w.why for w in high.best.imaging)
+    low = rank({**base, "tenderness": ["T11"]}, next_tests=0, classify=False)  # below the level: no clue to it
+    assert [round(h.probability, 6) for h in low.hypotheses] == [round(h.probability, 6) for h in plain.hypotheses]
