@@ -12,7 +12,6 @@ import pytest
 
 from cordmap import clues, nerves, schemas
 from cordmap.atlas import get as get_atlas
-from cordmap.casebook import Case, Expected, load_case, score
 from cordmap.errors import CordmapError
 from cordmap.findings import from_rows, from_tidy, parse
 from cordmap.lesions import Lesion
@@ -257,33 +256,6 @@ def test_the_next_tests_ask_for_the_muscle_that_separates_root_and_nerve():
     assert {t.item for t in r.next_tests} & {("muscle", "right", "ankle_inversion"), ("muscle", "right",
                                                                                        "hip_abduction"),
                                               ("muscle", "right", "ankle_eversion")}
-
-
-# ------------------------------------------------------------------ the casebook
-
-def test_a_peripheral_nerve_answer_needs_family_side_and_nerve(tmp_path):
-    doc = {"format": "cordmap-vignette/1", "id": "t1", "title": "invented", "source": "invented for a test",
-           "findings": PAIRS[0][1],
-           "expected": {"answer": "lesion", "lesions": [{"families": ["peripheral_nerve"], "nerve":
-                                                         "peroneal_fibular_head", "side": "right", "top": None,
-                                                         "image": []}]}}
-    path = tmp_path / "t1.json"
-    path.write_text(json.dumps(doc))
-    case = load_case(path)
-    assert case.lesions[0].nerve == "peroneal_fibular_head"
-    res = score(case, rank(case.findings, top=5, next_tests=0, classify=False))
-    assert res.top1 and res.window and res.family == "peripheral_nerve"
-    e = case.lesions[0]
-    assert e.matches(Lesion("peroneal_fibular_head", "right", "L5"))
-    assert not e.matches(Lesion("peroneal_fibular_head", "left", "L5"))
-    assert not e.matches(Lesion("root", "right", "L5"))
-    wrong = Case("t2", "", "", "lesion", (Expected(("peripheral_nerve",), "right", None, (), "ulnar_elbow"),),
-                 case.findings)
-    assert not score(wrong, rank(case.findings, top=5, next_tests=0, classify=False)).top1
-    doc["expected"]["lesions"][0]["nerve"] = "sciatic"
-    path.write_text(json.dumps(doc))
-    with pytest.raises(CordmapError, match="nerve"):
-        load_case(path)
 
 
 # ------------------------------------------------------------------ clues
