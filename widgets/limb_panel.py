@@ -30,18 +30,18 @@ class LimbPanel:
             lab.add_class("cm-striplabel")
             rows.append(W.HBox([lab, *[self.dd.make(("muscle", s, n)) for n in names]]))
         self.tender = W.TagsInput(value=[], allowed_tags=list(VERTEBRAE), allow_duplicates=False,
-                                  layout=W.Layout(width="220px"))
+                                  layout=W.Layout(width="180px"))
         self.tender.add_class("cm-tender")
         self.band = {s: W.TagsInput(value=[], allowed_tags=list(anatomy().dermatomes), allow_duplicates=False,
-                                    layout=W.Layout(width="150px")) for s in SIDES}
+                                    layout=W.Layout(width="140px")) for s in SIDES}
         self._syncing = False
         self.tender.observe(state.guard(self._on_tender), names="value")
         for s, w in self.band.items():
             w.add_class(f"cm-band-{s}")
             w.observe(state.guard(lambda c, s=s: self._on_band(s, c)), names="value")
         clue = W.HBox([W.HTML("<b>clues</b>", layout=W.Layout(width="112px", min_width="112px")),
-                       W.HTML("tender vertebrae", layout=W.Layout(width="110px")), self.tender,
-                       *[x for s in SIDES for x in (W.HTML(f"band pain, {s}", layout=W.Layout(width="100px")),
+                       W.HTML("tender vertebrae", layout=W.Layout(width="100px")), self.tender,
+                       *[x for s in SIDES for x in (W.HTML(f"band pain, {s}", layout=W.Layout(width="90px")),
                                                     self.band[s])]])
         self.widget = W.VBox([*rows, clue])
 

@@ -22,6 +22,7 @@ class NextTestsPanel:
             b.on_click(state.guard(functools.partial(self._on_click, i)))
             self.buttons.append(b)
         self.widget = W.VBox([head, *self.buttons])
+        self.widget.add_class("cm-nextbox")  # its text wraps to the column; it never widens it (style.py)
 
     def _on_click(self, i, _button):
         tests = self.state.ranking.next_tests if self.state.ranking else ()
