@@ -10,6 +10,7 @@ import time
 from pathlib import Path
 
 from . import cautions as C
+from . import nexttests
 from .errors import CordmapError, shown
 from .lesions import PATTERNS, Lesion
 
@@ -99,7 +100,7 @@ def _print_ranking(r, out=None):
         for t in r.next_tests:
             w(f"  * {t.why}\n")
     elif r.fit in ("good", "poor"):
-        w("\nNo bedside test left would change what is done: imaging tells the remaining hypotheses apart.\n")
+        w(f"\nNo bedside test left would change what is done: {nexttests.beyond_the_bedside(r)}.\n")
     if r.classification is not None:
         w(f"\nISNCSCI classification: {classification_line(r.classification.to_dict())}\n")
     w("\nCautions:\n")

@@ -161,6 +161,15 @@ def management_class(at) -> tuple[np.ndarray, list[tuple[int, int, int]]]:
     return code, classes
 
 
+def beyond_the_bedside(ranking) -> str:
+    """What tells the remaining hypotheses apart when no bedside test would: imaging, or for a leading lesion
+    outside the spine (a peripheral nerve lesion, a polyneuropathy) nerve conduction studies and EMG."""
+    hyps = getattr(ranking, "hypotheses", ())
+    if hyps and _COMPARTMENT.get(hyps[0].lesion.pattern) == 4:
+        return "nerve conduction studies and EMG tell the remaining hypotheses apart (nothing in the spine to image)"
+    return "imaging tells the remaining hypotheses apart"
+
+
 def lesion_class(lesion) -> tuple[int, int, int]:
     """The management class of one lesion, as `management_class` gives it for the atlas' candidates."""
     a = anatomy()

@@ -306,3 +306,12 @@ def test_a_clue_moves_a_thoracic_compression_toward_the_tender_vertebra():
     assert any("false localizing level" in w.why for w in high.best.imaging)
     low = rank({**base, "tenderness": ["T11"]}, next_tests=0, classify=False)  # below the level: no clue to it
     assert [round(h.probability, 6) for h in low.hypotheses] == [round(h.probability, 6) for h in plain.hypotheses]
+
+
+def test_beyond_the_bedside_a_nerve_lesion_is_told_by_nerve_studies():
+    from cordmap.nexttests import beyond_the_bedside
+
+    nerve = rank(PAIRS[0][1], next_tests=0, classify=False)
+    root = rank(PAIRS[0][3], next_tests=0, classify=False)
+    assert "nerve conduction studies and EMG" in beyond_the_bedside(nerve)
+    assert beyond_the_bedside(root).startswith("imaging")
