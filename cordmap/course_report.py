@@ -159,7 +159,7 @@ def fast_leads(exams: list[Findings]) -> list[Lead | None]:
     the two-lesion check, explanations). The exams of one phase share one gather of their recorded atlas rows and
     one matrix product. Fit is 'normal' when the normal cord leads, else 'lesion' (as `cordmap batch` says it)."""
     from . import atlas as atlas_mod
-    from . import clues
+    from . import clues, nerves
     from .rank import _softmax, evidence, leading_hypotheses, size_prior
 
     out: list[Lead | None] = [None] * len(exams)
@@ -182,6 +182,9 @@ def fast_leads(exams: list[Findings]) -> list[Lead | None]:
             clue = clues.log_likelihood(exams[k], at)  # tenderness and band pain (findings format 2), as rank
             if clue is not None:
                 lp = lp + clue
+            hidden = nerves.unseen(at, [at.item_index[key] for key in ev[row][1]])  # nerve lesions unseen
+            if hidden is not None:
+                lp = lp + hidden
             members, prob = leading_hypotheses(lp, _softmax(lp.astype(np.float64)), d, 1)[0]
             lz = at.lesion(int(members[0]))
             out[k] = Lead(PATTERNS[lz.pattern].family, lz.pattern, lz.side, lz.top, lz.bottom, float(prob),

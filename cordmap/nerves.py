@@ -109,6 +109,36 @@ def nerve_study(nerve: str, side: str) -> str:
             f"to the root)")
 
 
+# ------------------------------------------------------------------ unseen nerve lesions
+
+# A nerve lesion none of whose items was examined predicts, on that exam, exactly what the normal cord predicts: for
+# that exam it is the normal cord's twin (as a lesion predicting a wholly normal exam is on every exam, hypotheses.py),
+# and it is left out rather than sharing the normal cord's probability by its prior alone (a carpal tunnel is
+# invisible on a chart of the key muscles and key sensory points). Judgement, the same rule as hypotheses.py's.
+UNSEEN = -1e4
+
+
+def unseen(at, examined_rows) -> np.ndarray | None:
+    """(candidates,) UNSEEN for the nerve lesions that predict every examined item (atlas item rows) as the normal
+    cord does, 0 elsewhere; None when no nerve lesion is unseen (the common case costs nothing)."""
+    hit = _NERVE_COLUMNS.get(id(at))
+    if hit is None or hit[0] is not at:
+        hit = _NERVE_COLUMNS[id(at)] = (at, np.flatnonzero(np.isin(at.pattern_of, nerve_ids())))
+    cols = hit[1]
+    if not len(cols):
+        return None
+    rows = np.asarray(examined_rows, dtype=np.int64)
+    seen = (np.asarray(at.abnormal)[rows][:, cols] > 0).any(axis=0) if len(rows) else np.zeros(len(cols), bool)
+    if seen.all():
+        return None
+    out = np.zeros(len(at), dtype=np.float32)
+    out[cols[~seen]] = UNSEEN
+    return out
+
+
+_NERVE_COLUMNS: dict[int, tuple] = {}
+
+
 # ------------------------------------------------------------------ the readout of nerve candidates
 
 @dataclass(frozen=True)

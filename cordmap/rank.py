@@ -16,7 +16,7 @@ import pandas as pd
 
 from . import atlas as atlas_mod
 from . import cautions as C
-from . import clues, nexttests, observation
+from . import clues, nerves, nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, item_label, item_values, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
@@ -251,6 +251,9 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     clue = clues.log_likelihood(f, at)  # tenderness and band pain (findings format 2); None without them
     if clue is not None:
         lp = lp + clue
+    hidden = nerves.unseen(at, [at.item_index[k] for k in items])  # nerve lesions this exam cannot see
+    if hidden is not None:
+        lp = lp + hidden
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
     leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
@@ -389,10 +392,13 @@ def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
         cols, _, w = evidence(f, at)
         onehot[e, cols] = w
     out = onehot @ at.logp + size_prior(at)[None, :]
-    for e, f in enumerate(exams):  # the clues of findings format 2, as rank adds them
+    for e, f in enumerate(exams):  # the clues of findings format 2 and the unseen nerve lesions, as rank adds them
         clue = clues.log_likelihood(f, at)
         if clue is not None:
             out[e] += clue
+        hidden = nerves.unseen(at, [at.item_index[k] for k in observed_columns(f, at)[1]])
+        if hidden is not None:
+            out[e] += hidden
     return out
 
 
