@@ -123,12 +123,13 @@ def unseen(at, examined_rows) -> np.ndarray | None:
     cord does, 0 elsewhere; None when no nerve lesion is unseen (the common case costs nothing)."""
     hit = _NERVE_COLUMNS.get(id(at))
     if hit is None or hit[0] is not at:
-        hit = _NERVE_COLUMNS[id(at)] = (at, np.flatnonzero(np.isin(at.pattern_of, nerve_ids())))
-    cols = hit[1]
+        cols = np.flatnonzero(np.isin(at.pattern_of, nerve_ids()))
+        hit = _NERVE_COLUMNS[id(at)] = (at, cols, np.asarray(at.abnormal)[:, cols] > 0)  # (items, nerve lesions)
+    _, cols, abnormal = hit
     if not len(cols):
         return None
     rows = np.asarray(examined_rows, dtype=np.int64)
-    seen = (np.asarray(at.abnormal)[rows][:, cols] > 0).any(axis=0) if len(rows) else np.zeros(len(cols), bool)
+    seen = abnormal[rows].any(axis=0) if len(rows) else np.zeros(len(cols), bool)
     if seen.all():
         return None
     out = np.zeros(len(at), dtype=np.float32)

@@ -388,15 +388,17 @@ def ranking_cautions(at, post, f: Findings, hyps=(), classification=None) -> tup
 def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
     """(exams, candidates) log posterior (unnormalised) for many exams with one matrix product."""
     onehot = np.zeros((len(exams), at.logp.shape[0]), dtype=np.float32)
+    rows = []
     for e, f in enumerate(exams):
         cols, _, w = evidence(f, at)
         onehot[e, cols] = w
+        rows.append(np.searchsorted(at.offsets, cols, side="right") - 1)  # the examined items
     out = onehot @ at.logp + size_prior(at)[None, :]
     for e, f in enumerate(exams):  # the clues of findings format 2 and the unseen nerve lesions, as rank adds them
         clue = clues.log_likelihood(f, at)
         if clue is not None:
             out[e] += clue
-        hidden = nerves.unseen(at, [at.item_index[k] for k in observed_columns(f, at)[1]])
+        hidden = nerves.unseen(at, rows[e])
         if hidden is not None:
             out[e] += hidden
     return out
