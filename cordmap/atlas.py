@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import cachedir, items, observation
+from . import cachedir, items, nerves, observation
 from .anatomy import anatomy
 from .findings import all_items, item_values
 from .forward import along_extent, fibre_losses_per_segment, readout, with_neuropathy
@@ -162,7 +162,8 @@ def model_version() -> str:
     for name in sorted(p.name for p in resources.files("cordmap.data").iterdir() if p.name.endswith(".csv")):
         h.update(resources.files("cordmap.data").joinpath(name).read_bytes())
     here = Path(__file__).parent
-    for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py", "items.py"):
+    for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py", "items.py",
+                "nerves.py", "findings_v2.py"):
         h.update((here / mod).read_bytes())
     return h.hexdigest()[:16]
 
@@ -196,10 +197,12 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
     logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
     likely = np.empty((len(items), len(var)), dtype=np.int8)
     neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in vs])
+    nerve = nerves.candidate_codes([v.pattern for v in vs], [v.side for v in vs],  # single nerve lesions
+                                   [dict(v.params).get("severity", 1.0) for v in vs])
     for start in range(0, len(var), chunk):
         sl = slice(start, start + chunk)
         L = with_neuropathy(along_extent(per_seg, var[sl], top[sl], bottom[sl]), neuropathy[var[sl]])
-        r = readout(L, phase == "acute")
+        r = nerves.apply(readout(L, phase == "acute"), *(x[var[sl]] for x in nerve))
         logp[:, sl] = observation.log_probabilities(r, items, offsets).T
         likely[:, sl] = observation.crisp_indices(r, items).T
     return Atlas(phase, vs, var, top, bottom, area, items, offsets, logp, likely)

@@ -19,8 +19,10 @@ from .anatomy import anatomy, cord_region
 from .errors import CordmapError, bad_value
 from .findings import Findings, parse
 from .lesions import PATTERNS, Lesion
+from .nerves import nerve_ids
 
 FORMAT = "cordmap-vignette/1"
+PERIPHERAL_NERVE = "peripheral_nerve"  # the answer family of a single limb nerve lesion (with a `nerve` field)
 ANSWERS = ("lesion", "two_lesions", "normal")
 SPINE = tuple([f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)]
               + ["S1"])
@@ -32,17 +34,23 @@ class Expected:
     the vertebrae an MRI must include."""
     families: tuple[str, ...]
     side: str
-    top: tuple[str, str]
+    top: tuple[str, str] | None
     image: tuple[str, ...]
+    nerve: str = ""  # the family `peripheral_nerve`: which nerve and site (`cordmap.nerves`; top is then None)
 
     def __repr__(self):
+        if self.top is None:
+            return f"Expected({'/'.join(self.families)} {self.nerve} {self.side})"
         return f"Expected({'/'.join(self.families)} {self.side} {self.top[0]}-{self.top[1]})"
 
     def matches(self, lesion: Lesion) -> bool:
         """Family, side and rostral segment all as the case expects (a symmetric answer accepts either side of a
         pattern that has no 'both', such as the worse side of a cauda equina lesion). A diffuse degeneration's
-        hypothesis is a region of the cord, so it matches when its region holds a segment of the expected range."""
-        if lesion.pattern not in self.families:
+        hypothesis is a region of the cord, so it matches when its region holds a segment of the expected range.
+        A peripheral nerve lesion (family `peripheral_nerve`) matches the lesion of its nerve on its side."""
+        if PERIPHERAL_NERVE in self.families and self.nerve and lesion.pattern == self.nerve:
+            return lesion.side == self.side
+        if lesion.pattern not in self.families or self.top is None:
             return False
         if self.side != "both" and lesion.side != self.side:
             return False
@@ -82,11 +90,21 @@ def _expected(doc: dict, where: str) -> Expected:
     a = anatomy()
     fams = _field(doc, "families", where, list)
     for f in fams:
-        if f not in PATTERNS:
-            raise bad_value(f"{where}.families", f, [*PATTERNS], "family")
+        if f not in PATTERNS and f != PERIPHERAL_NERVE:
+            raise bad_value(f"{where}.families", f, [*PATTERNS, PERIPHERAL_NERVE], "family")
     side = _field(doc, "side", where)
     if side not in ("left", "right", "both"):
         raise bad_value(f"{where}.side", side, ("left", "right", "both"), "side")
+    if PERIPHERAL_NERVE in fams:  # findings format 2: a named nerve and site, no rostral segment
+        nerve = _field(doc, "nerve", where)
+        if nerve not in nerve_ids():
+            raise bad_value(f"{where}.nerve", nerve, nerve_ids(), "nerve")
+        if doc.get("top") is not None or side == "both":
+            raise CordmapError(f"{where}: a peripheral_nerve answer has \"top\": null and a side, left or right")
+        image = _field(doc, "image", where, list)
+        if image:
+            raise CordmapError(f"{where}.image: a peripheral_nerve answer images nothing; give []")
+        return Expected(tuple(fams), side, None, (), nerve)
     top = _field(doc, "top", where, list)
     if len(top) != 2:
         raise CordmapError(f"{where}.top: expected [earliest, latest], got {top!r}")

@@ -29,6 +29,8 @@ The rules, each with where it comes from (check values: /work/shared/reference/c
 """
 from __future__ import annotations
 
+from .nerves import nerve_ids
+
 DECISION_SUPPORT = ("Decision support, not a diagnosis: local protocols and licensed clinicians decide.")
 EMERGENCY = ("Acute myelopathy is an emergency: suspected acute compression needs urgent imaging and a "
              "surgical opinion.")
@@ -62,7 +64,7 @@ CAUTION_MASS = 0.1  # share of the explaining posterior that raises a caution (o
 # whose exam leaves the legs unexamined keeps a tail of small cord compressions at its level, a few per cent in all,
 # which must not call a root lesion a dysreflexia risk)
 
-OUTSIDE = ("root", "cauda_equina", "polyneuropathy", "normal")  # not the cord
+OUTSIDE = ("root", "cauda_equina", "polyneuropathy", *nerve_ids(), "normal")  # not the cord (nerves: cordmap.nerves)
 CORD_COMPRESSION = ("lateral_compression", "anterior_compression", "posterior_compression")
 SACRAL = ("cauda_equina", "conus")
 # cord patterns that spare the descending autonomic (sympathetic) pathways: see the module doc

@@ -10,6 +10,7 @@ import time
 from pathlib import Path
 
 from . import cautions as C
+from . import nexttests
 from .errors import CordmapError, shown
 from .lesions import PATTERNS, Lesion
 
@@ -39,6 +40,9 @@ def _lesion(args, pattern: str) -> Lesion:
     if args.old_bottom is not None:
         _deprecated("--bottom", "--caudal")
         bottom = bottom if bottom is not None else args.old_bottom
+    pat = PATTERNS.get(pattern)
+    if top is None and pat is not None and pat.tops[0] == pat.tops[1]:  # a placeholder (nerve, polyneuropathy)
+        top = pat.tops[0]
     return Lesion(pattern, args.side, top or "T6", bottom, _params(args.param), args.phase)
 
 
@@ -98,7 +102,7 @@ def _print_ranking(r, out=None):
         for t in r.next_tests:
             w(f"  * {t.why}\n")
     elif r.fit in ("good", "poor"):
-        w("\nNo bedside test left would change what is done: imaging tells the remaining hypotheses apart.\n")
+        w(f"\nNo bedside test left would change what is done: {nexttests.beyond_the_bedside(r)}.\n")
     if r.classification is not None:
         w(f"\nISNCSCI classification: {classification_line(r.classification)}\n")
     w("\nCautions:\n")

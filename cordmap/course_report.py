@@ -159,6 +159,7 @@ def scored(exams: list[Findings]) -> list[tuple | None]:
     """(atlas, log posterior unnormalised) of every exam with something entered, None for an empty one. The exams
     of one phase share one gather of their recorded atlas rows and one matrix product."""
     from . import atlas as atlas_mod
+    from . import clues, nerves
     from .rank import evidence, size_prior
 
     out: list[tuple | None] = [None] * len(exams)
@@ -176,7 +177,14 @@ def scored(exams: list[Findings]) -> list[tuple | None]:
             start += len(cols)
         scores = weights @ np.asarray(at.logp[union]) + size_prior(at)[None, :]
         for row, k in enumerate(sel):
-            out[k] = (at, scores[row])
+            lp = scores[row]
+            clue = clues.log_likelihood(exams[k], at)  # tenderness and band pain (findings format 2), as rank
+            if clue is not None:
+                lp = lp + clue
+            hidden = nerves.unseen(at, [at.item_index[key] for key in ev[row][1]])  # nerve lesions unseen
+            if hidden is not None:
+                lp = lp + hidden
+            out[k] = (at, lp)
     return out
 
 

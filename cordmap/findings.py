@@ -1,4 +1,4 @@
-"""The findings document (format ``cordmap-findings/1``): reading, checking, writing.
+"""The findings document (format ``cordmap-findings/1``, and ``/2``: `cordmap.findings_v2`): reading, checking, writing.
 
 A `Findings` value holds one exam as a flat mapping from an item key to a canonical value. Item keys are the
 named tuples of `cordmap.items` (equal to plain tuples), the registry of every item's values and which is normal:
@@ -8,6 +8,8 @@ named tuples of `cordmap.items` (equal to plain tuples), the registry of every i
 * ``("reflex", side, reflex)`` -> "absent" | "reduced" | "normal" | "brisk" (tendon reflexes),
   "present" | "absent" (hoffmann, abdominal, cremasteric), "flexor" | "extensor" | "mute" (plantar)
 * ``("sign", name, side)`` -> side is "left"/"right" for horner, "" otherwise; values as in the document
+* version 2: ``("muscle", side, name)`` -> MRC grade or "NT"; ``("tenderness", vertebra, "")`` and
+  ``("band_pain", side, dermatome)`` -> True (`cordmap.findings_v2`)
 
 A key that is missing was not examined. Nothing here treats "not examined" as "normal".
 """
@@ -22,14 +24,16 @@ from types import MappingProxyType
 
 import pandas as pd
 
+from . import findings_v2 as v2
 from . import items as registry
 from .anatomy import MODALITIES, REFLEXES, SIDES, TENDON_REFLEXES, anatomy
 from .errors import CordmapError, bad_value, shown
 from .files import MAX_FINDINGS_BYTES, read_bounded
 
 FORMAT = "cordmap-findings/1"
+FORMATS = (FORMAT, v2.FORMAT2)  # version 2 adds muscles, tenderness and band_pain (`cordmap.findings_v2`)
 # "caution": the clinical caution a document written by cordmap (simulate) carries; read and ignored
-DOCUMENT_KEYS = ("format", "label", "phase", "sensory", "motor", "reflexes", "signs", "caution")
+DOCUMENT_KEYS = ("format", "label", "phase", "sensory", "motor", "reflexes", "signs", "caution", *v2.KEYS)
 PHASES = ("chronic", "acute")
 # the values of every item come from the registry (`cordmap.items`); these names are what the reader spells them by
 SENSORY_GRADES = dict(zip(registry.SENSORY_SCALE.words, registry.SENSORY_SCALE.values))
@@ -88,7 +92,7 @@ class Findings:
         return Findings(items, kw.get("label", self.label), kw.get("phase", self.phase))
 
     def to_dict(self) -> dict:
-        """The findings document (format cordmap-findings/1) as a dict."""
+        """The findings document (format cordmap-findings/1, or /2 when it records a version-2 item) as a dict."""
         return to_document(self)
 
     def to_json(self, indent: int | None = 2) -> str:
@@ -100,7 +104,10 @@ class Findings:
         rows = []
         for key, value in self.items.items():
             kind = key[0]
-            if kind == "sensory":
+            extra = v2.tidy_row(key, value)
+            if extra is not None:
+                rows.append(extra)
+            elif kind == "sensory":
                 rows.append((kind, key[1], key[2], key[3], SENSORY_NAMES[value]))
             elif kind == "motor":
                 rows.append((kind, "mrc", key[1], key[2], str(value)))
@@ -198,8 +205,11 @@ def parse(doc) -> Findings:
     doc = _mapping(doc, "findings")
     a = anatomy()
     fmt = doc.get("format")
-    if fmt != FORMAT:
-        raise CordmapError(f"format: {shown(fmt)} is not a findings format this version reads; expected {FORMAT!r}")
+    if fmt not in FORMATS:
+        raise CordmapError(f"format: {shown(fmt)} is not a findings format this version reads; expected {FORMAT!r} "
+                           f"or {v2.FORMAT2!r}")
+    if fmt == FORMAT:
+        v2.refuse_in_v1(doc, fmt)
     _known(doc, DOCUMENT_KEYS, "", "key")
     caution = doc.get("caution", "")
     if not isinstance(caution, str):  # written by cordmap's outputs (simulate); read and ignored
@@ -284,6 +294,8 @@ def parse(doc) -> Findings:
         else:
             value = value.strip().lower()
         items[("sign", name, "")] = value
+    if fmt == v2.FORMAT2:
+        v2.parse_into(doc, items, _mapping, _known, _expand_range)
     return Findings(items, label, phase)
 
 
@@ -326,6 +338,7 @@ def to_document(f: Findings) -> dict:
             signs[name] = f.items[("sign", name, "")]
     if signs:
         doc["signs"] = signs
+    v2.write_into(f, doc)
     return doc
 
 
@@ -343,12 +356,14 @@ def _tidy_item(exam: str, name: str, side: str, seg: str) -> tuple:
         return (exam, side, name)
     if exam == "sign":
         return (exam, name, side if name == "horner" else "")
+    if exam in v2.KINDS:
+        return v2.tidy_item(exam, name, side, seg)
     return (exam,)
 
 
 def _tidy_value(exam: str, name: str, value: str) -> object:
     """A tidy row's value as the document carries it ("4" for a tendon reflex is 4, "2" for motor is 2)."""
-    if exam in ("motor", "reflex") and _SMALL_NUMBER.fullmatch(value):
+    if exam in ("motor", "reflex", "muscle") and _SMALL_NUMBER.fullmatch(value):
         return int(value)
     if exam == "sign":
         return {"true": True, "false": False}.get(value.lower(), value)
@@ -363,7 +378,7 @@ def _canonical(exam: str, name: str, value: object) -> object:
     if exam == "reflex" and name in TENDON_REFLEXES and isinstance(value, int):
         return NINDS.get(value, value)
     if isinstance(value, str):
-        return value.strip().upper() if exam == "motor" else value.strip().lower()
+        return value.strip().upper() if exam in ("motor", "muscle") else value.strip().lower()
     return value
 
 
@@ -388,8 +403,9 @@ def from_rows(rows, label: str = "", phase: str = "chronic", row_names=None) -> 
     for i, r in enumerate(rows):
         exam, name, side, seg, value = (_cell(r, c) for c in TIDY_COLUMNS)
         where = row_names[i] if row_names is not None else f"row {i + 1}"
-        if exam not in ("sensory", "motor", "reflex", "sign", "phase"):
-            raise bad_value(f"{where}.exam", exam, ("sensory", "motor", "reflex", "sign", "phase"), "exam")
+        exams = ("sensory", "motor", "reflex", "sign", "phase", *v2.KINDS)
+        if exam not in exams:
+            raise bad_value(f"{where}.exam", exam, exams, "exam")
         v = _tidy_value(exam, name, value)
         key = _tidy_item(exam, name, side, seg)
         canon = _canonical(exam, name, v)
@@ -404,6 +420,8 @@ def from_rows(rows, label: str = "", phase: str = "chronic", row_names=None) -> 
             doc.setdefault("motor", {}).setdefault(side, {})[seg] = v
         elif exam == "reflex":
             doc.setdefault("reflexes", {}).setdefault(side, {})[name] = v
+        elif exam in v2.KINDS:
+            v2.from_row(doc, exam, name, side, seg, value if exam != "muscle" else v, where)
         elif exam == "sign":
             if name == "horner":
                 doc.setdefault("signs", {}).setdefault("horner", {})[side] = v

@@ -10,6 +10,7 @@ from .anatomy import anatomy
 from .hypotheses import _derived
 from .items import abnormal
 from .lesions import NORMAL, PATTERNS
+from .nerves import nerve_ids
 
 # Poor fit: the best candidate scores this many standard deviations below what it scores on its own simulated
 # findings over the same items (and at least POOR_FIT_NATS below). Chosen so that exams with 10% of items
@@ -103,7 +104,8 @@ def separate(at, i: int) -> np.ndarray:
 # lesions at two levels (multilevel metastases, multifocal inflammation) are left to imaging: on the corpus such
 # pairs were one lesion's misfit patched (a meningioma's false level, motor neuron disease read as two
 # compressions). Degenerations and a polyneuropathy are never half of a pair: they already span the cord or limbs.
-PAIRABLE = tuple(p.id for p in PATTERNS.values() if not p.diffuse and p.id not in ("polyneuropathy", NORMAL))
+PAIRABLE = tuple(p.id for p in PATTERNS.values()
+                 if not p.diffuse and p.id not in ("polyneuropathy", NORMAL, *nerve_ids()))  # nerves: no level
 ROOT_LEVEL = ("root", "cauda_equina")
 
 

@@ -26,6 +26,7 @@ import numpy as np
 
 from .anatomy import SIDES, TENDON_REFLEXES, anatomy
 from .model import DEFAULT_RESOLUTION, S, sections
+from .nerves import limb_muscles
 
 N_SEG = 31
 STAGES = ("dorsal_root", "ventral_root", "entry", "lissauer", "dorsal_horn", "commissure", "spinothalamic",
@@ -264,7 +265,8 @@ class Readout:
     motor: (cand, 2, 10) expected MRC grade (float), motor_umn / motor_lmn the two components of the weakness
     reflexes: {(side, reflex): int index into that reflex's values}
     signs: {(name, side): int index into that sign's values}
-    diaphragm_loss: (cand,) worst side's diaphragm weakness 0..1
+    muscles: (cand, 2, 10) expected MRC grade of the non-key limb muscles (`nerves.muscle_names`), muscles_umn /
+    muscles_lmn their components
     """
 
     sensory: np.ndarray
@@ -273,6 +275,9 @@ class Readout:
     motor_lmn: np.ndarray
     reflexes: dict
     signs: dict
+    muscles: np.ndarray | None = None
+    muscles_umn: np.ndarray | None = None
+    muscles_lmn: np.ndarray | None = None
 
 
 def _get(L, stage, side, j):
@@ -418,6 +423,14 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
             u, lo = _umn(L, sd, w), _lmn(L, sd, w)
             mu[:, sd, mi], ml[:, sd, mi] = u, lo
             motor[:, sd, mi] = motor_grade(u, lo)
+    limb = limb_muscles()
+    muscles = np.zeros((n, 2, len(limb)), dtype=np.float32)
+    gu, gl = np.zeros_like(muscles), np.zeros_like(muscles)
+    for mi, (_, w, _) in enumerate(limb.values()):
+        for sd in (0, 1):
+            u, lo = _umn(L, sd, w), _lmn(L, sd, w)
+            gu[:, sd, mi], gl[:, sd, mi] = u, lo
+            muscles[:, sd, mi] = motor_grade(u, lo)
 
     def released_by(sd, segs):
         """Corticospinal loss to the arc's segments, counted only where the arc itself still works."""
@@ -429,7 +442,7 @@ def readout_by_item(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
             if name == "bulbocavernosus":
                 continue
             reflexes[(side, name)] = _reflex_index(name, _arc(L, sd, segs), released_by(sd, segs), acute)
-    return Readout(sens, motor, mu, ml, reflexes, _signs(L, acute))
+    return Readout(sens, motor, mu, ml, reflexes, _signs(L, acute), muscles, gu, gl)
 
 
 # ------------------------------------------------------------------ readout, whole tables at once
@@ -488,11 +501,13 @@ def _tables():
     a = anatomy()
     derm = _Slots.of([a.dermatome_segments[d] for d in a.dermatomes])
     muscle = _Slots.of([a.muscle_weights[m] for m in a.key_myotomes])
+    limb = _Slots.of([w for _, w, _ in limb_muscles().values()])
     names = tuple(name for name in a.reflex_segments if name != "bulbocavernosus")
     arc = _Slots.of([a.reflex_segments[name] for name in names])
     return {"derm": derm, "derm_cols": derm.columns(*_SENSORY_STAGES),
             "muscle": muscle, "muscle_cols": muscle.columns(*_UMN_STAGES, ("ventral_horn", "same"),
                                                             ("ventral_root", "same")),
+            "limb": limb, "limb_cols": limb.columns(*_UMN_STAGES, ("ventral_horn", "same"), ("ventral_root", "same")),
             "reflex_names": names, "arc": arc, "arc_cols": arc.columns(*_ARC_STAGES, *_UMN_STAGES)}
 
 
@@ -523,6 +538,12 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     mu = mus.total(mus.weight * (0.92 * cs + 0.08 * acs))
     ml = mus.total(mus.weight * _comb(vh, vr))
     motor = motor_grade(mu, ml)
+    cs, acs_same, acs_other, vh, vr = np.moveaxis(L[:, t["limb_cols"]], 1, 0)
+    limb = t["limb"]
+    acs = 0.5 * (acs_same + acs_other)
+    gu = limb.total(limb.weight * (0.92 * cs + 0.08 * acs))
+    gl = limb.total(limb.weight * _comb(vh, vr))
+    muscles = motor_grade(gu, gl)
 
     # reflexes: (n, 2, reflexes, slots)
     dr, en, vh, vr, cs, acs_same, acs_other = np.moveaxis(L[:, t["arc_cols"]], 1, 0)
@@ -535,4 +556,4 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
                 for r, name in enumerate(t["reflex_names"])}
     reflexes = {(side, name): np.ascontiguousarray(per_name[name][:, sd])
                 for sd, side in enumerate(SIDES) for name in t["reflex_names"]}
-    return Readout(sens, motor, mu, ml, reflexes, _signs(L, acute))
+    return Readout(sens, motor, mu, ml, reflexes, _signs(L, acute), muscles, gu, gl)

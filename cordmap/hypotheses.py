@@ -16,13 +16,14 @@ from . import observation
 from .anatomy import anatomy, cord_region, family_priors
 from .items import abnormal, item_values
 from .lesions import NORMAL, PATTERNS
+from .nerves import nerve_ids
 
 SAME_EXAM_SHOWN = 5  # other lesions listed with a hypothesis whose predicted exam they share
 UNDETECTABLE = -1e4  # log prior of a lesion whose predicted exam is wholly normal (effectively zero)
 
 # Lesions outside the cord raise no cord-level caution: a root or the cauda equina cannot cause autonomic
 # dysreflexia or paralyse the diaphragm (check values section 8: dysreflexia with cord lesions at or above T6 only).
-OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", NORMAL)
+OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", *nerve_ids(), NORMAL)
 
 
 

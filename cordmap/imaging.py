@@ -30,6 +30,7 @@ from functools import cache
 from .anatomy import CORD_REGIONS, _table, anatomy, cord_region
 from .errors import CordmapError
 from .lesions import NORMAL, PATTERNS, Lesion
+from .nerves import nerve_ids, nerve_study
 
 SPINE = tuple([f"C{i}" for i in range(1, 8)] + [f"T{i}" for i in range(1, 13)] + [f"L{i}" for i in range(1, 6)]
               + ["S1", "sacrum"])
@@ -43,7 +44,7 @@ ABOVE, ABOVE_COMPRESSION, BELOW_MIN = 2, 3, 2
 # segments above the rostral one cover it; below, one more body is added.
 BODY_SPREAD = 1
 COMPRESSIONS = ("lateral_compression", "anterior_compression", "posterior_compression")
-NOTHING = ("polyneuropathy", NORMAL)  # nothing in the spine to image
+NOTHING = ("polyneuropathy", *nerve_ids(), NORMAL)  # nothing in the spine to image (nerves: cordmap.nerves)
 
 
 @dataclass(frozen=True)
@@ -202,6 +203,8 @@ def _diffuse_window(lesion: Lesion) -> tuple[Window, ...]:
 def windows(lesion: Lesion) -> tuple[Window, ...]:
     """Where to image `lesion`, each window with its reason (none for a normal cord or a polyneuropathy)."""
     p = lesion.pattern
+    if p in nerve_ids():  # no spine window; the test that places it (cordmap.nerves)
+        return (Window((), nerve_study(p, lesion.side), advice=True),)
     if p in NOTHING:
         return ()
     if p == "root":

@@ -12,6 +12,9 @@ An item key is a named tuple of its kind, equal to (and hashing like) the plain 
 * `MotorKey` ``("motor", side, myotome)``: MRC grade 0..5, or ``"NT"`` (not testable: neither normal nor abnormal)
 * `ReflexKey` ``("reflex", side, reflex)``: its `Scale` by reflex (tendon, plantar, Hoffmann, superficial)
 * `SignKey` ``("sign", name, side)``: side "left"/"right" for the Horner sign, "" otherwise
+* findings format 2 (`findings_v2`): `MuscleKey` ``("muscle", side, name)``, a non-key limb muscle, MRC grade or
+  "NT"; `TendernessKey` ``("tenderness", vertebra, "")`` and `BandPainKey` ``("band_pain", side, dermatome)``,
+  clues recorded only where found (True, abnormal), read by `clues` and never atlas rows
 
 The values of an item are a `Scale`: its canonical values in the atlas' order, how far each is from normal (0 is
 normal), its words, and the values that record "not tested". A new item kind is one `Kind` in `KINDS` (its key
@@ -92,6 +95,7 @@ TRUE_NORMAL = Scale((True, False), (0, 1), ("present", "absent"))  # anal contra
 TRUE_ABNORMAL = Scale((True, False), (1, 0), ("present", "absent"))  # Horner sign
 BLADDER_SCALE = Scale(("normal", "retention", "urgency"), (0, 1, 1), ("normal", "retention", "urgency"))
 DIAPHRAGM_SCALE = Scale(("normal", "weak"), (0, 1), ("normal", "weak"))
+CLUE_SCALE = Scale((True,), (1,), ("present",))  # tenderness, band pain: recorded where found
 
 
 class Entry(NamedTuple):
@@ -143,6 +147,9 @@ SensoryKey = _key_type("SensoryKey", "modality side dermatome")
 MotorKey = _key_type("MotorKey", "side myotome")
 ReflexKey = _key_type("ReflexKey", "side reflex")
 SignKey = _key_type("SignKey", "name side")
+MuscleKey = _key_type("MuscleKey", "side name")
+TendernessKey = _key_type("TendernessKey", "vertebra blank")
+BandPainKey = _key_type("BandPainKey", "side dermatome")
 
 
 # ---------------------------------------------------------------- the kinds
@@ -163,6 +170,18 @@ def _reflex_label(k: tuple) -> str:
     if k[2] in ("plantar", "hoffmann"):
         return f"{k[1]} {k[2]} response"
     return f"{k[1]} {k[2].replace('_', ' ')} reflex"
+
+
+def _limb_muscle(k: tuple) -> str:
+    from .nerves import limb_muscles
+
+    return f"{k[1]} {k[2].replace('_', ' ')} ({limb_muscles()[k[2]][0]})"
+
+
+def _limb_muscle_keys() -> list:
+    from .nerves import muscle_names
+
+    return [MuscleKey("muscle", s, m) for s in SIDES for m in muscle_names()]
 
 
 def _sign_entry(k: tuple) -> Entry:
@@ -206,6 +225,13 @@ KINDS: dict[str, Kind] = {k.name: k for k in (
          lambda k: _sign_entry(k).scale,
          lambda k: f"Horner sign {k[2]}" if k[1] == "horner" else k[1].replace("_", " "),
          lambda k: f"Horner sign on the {k[2]} (ptosis, small pupil)" if k[1] == "horner" else SIGNS[k[1]].bedside),
+    Kind("muscle", MuscleKey, _limb_muscle_keys, lambda k: MRC_SCALE, _limb_muscle,
+         lambda k: f"{_limb_muscle(k)} strength"),
+    # clues, not deficits: no atlas rows (the model predicts no tenderness), read by `clues`
+    Kind("tenderness", TendernessKey, list, lambda k: CLUE_SCALE, lambda k: f"{k[1]} tender to percussion",
+         lambda k: f"percussion over the {k[1]} spinous process", lambda k: False),
+    Kind("band_pain", BandPainKey, list, lambda k: CLUE_SCALE, lambda k: f"{k[1]} band-like pain {k[2]}",
+         lambda k: f"ask about band-like pain on the {k[1]} at {k[2]}", lambda k: False),
 )}
 
 

@@ -14,6 +14,7 @@ import numpy as np
 from .anatomy import anatomy
 from .errors import CordmapError, bad_value
 from .model import S, Section, dorsal_horn_axis
+from .nerves import SEVERITY_GRID, nerves
 
 SIDE_VALUES = ("left", "right", "both")
 NORMAL = "normal"
@@ -398,6 +399,19 @@ CORD_TOPS = ("C1", "L4")
 # cord).
 DEGENERATION_TOPS = ("C1", "T12")
 
+# A single peripheral nerve lesion of a limb (`cordmap.nerves`: its muscles, key sensory points and reflexes, each
+# with the share it supplies): outside the cord and roots, no mask. One pattern per nerve and site, named by its id
+# (`peroneal_fibular_head` ...); `top` is a placeholder, the root it mimics. `severity`: the share of the nerve's
+# fibres lost (judgement: 0.3 a mild palsy, 1 a complete one).
+_NERVE_SEVERITY = Param("severity", 1.0, SEVERITY_GRID, 0.05, 1.0, "share of the nerve's fibres lost (1 = all)")
+
+
+def _nerve_patterns() -> tuple[Pattern, ...]:
+    return tuple(Pattern(n.id, f"the {n.words}: a single peripheral nerve lesion, outside the cord and roots",
+                         ("left", "right"), _normal, (_NERVE_SEVERITY,), tops=(n.mimics, n.mimics), single=True)
+                 for n in nerves().values())
+
+
 PATTERNS: dict[str, Pattern] = {p.id: p for p in (
     Pattern("complete", "the whole cross-section at every segment of the extent (transection, complete myelitis)",
             ("both",), _complete, (_INCOMPLETE,), atlas_tops=CORD_TOPS),
@@ -466,6 +480,7 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
                    "severity (0.2 reduces the ankle jerks; 0.35 loses them and numbs the toes; 1 reaches the knees "
                    "and the hands)"),),
             tops=("S1", "S1"), single=True),
+    *_nerve_patterns(),
     # No lesion: the ranker's "normal cord" hypothesis, against which every lesion must earn its place.
     Pattern(NORMAL, "no lesion: a normal cord (the ranker's baseline hypothesis)", ("both",), _normal,
             tops=("C1", "C1"), single=True),

@@ -21,6 +21,7 @@ from .anatomy import anatomy
 from .findings import Findings
 from .items import bedside as finding_words  # noqa: F401 (where and what to test, in words; re-exported)
 from .items import feasible, item_values, sites, value_words  # noqa: F401 (re-exported)
+from .nerves import nerve_ids
 
 POOL = 200  # candidates the ranking hands over (its leading ones); the classes' own candidates are added here
 ALTERNATIVES = 3  # management classes weighed besides the leading one
@@ -32,7 +33,8 @@ MIN_GAIN = 1e-4  # nats: below this a test tells nothing worth an examiner's min
 COMPARTMENTS = ("cord compression", "within the cord", "root", "cauda equina or conus", "outside the spine",
                 "no lesion")
 _COMPARTMENT = {"lateral_compression": 0, "anterior_compression": 0, "posterior_compression": 0,
-                "root": 2, "cauda_equina": 3, "conus": 3, "polyneuropathy": 4, "normal": 5}  # others: 1
+                "root": 2, "cauda_equina": 3, "conus": 3, "polyneuropathy": 4, "normal": 5,
+                **{n: 4 for n in nerve_ids()}}  # others: 1
 REGIONS = ("cervical spine", "upper thoracic spine", "lower thoracic spine", "lumbosacral spine")
 SIDE_CODE = {"left": 0, "right": 1, "both": 2}
 
@@ -85,7 +87,7 @@ def management_class(at) -> tuple[np.ndarray, list[tuple[int, int, int]]]:
     region = np.where(roots, root_region[at.top], region)
     region = np.where(comp == 3, 3, region)
     region = np.where(comp >= 4, -1, region)
-    side = np.where(comp >= 4, 2, side)
+    side = np.where((comp >= 4) & ~np.isin(at.pattern_of, nerve_ids()), 2, side)  # a nerve lesion keeps its side
     triples, code = np.unique(np.stack([comp, side, region]), axis=1, return_inverse=True)
     classes = [tuple(int(x) for x in triples[:, j]) for j in range(triples.shape[1])]
     code = code.ravel()
@@ -93,12 +95,21 @@ def management_class(at) -> tuple[np.ndarray, list[tuple[int, int, int]]]:
     return code, classes
 
 
+def beyond_the_bedside(ranking) -> str:
+    """What tells the remaining hypotheses apart when no bedside test would: imaging, or for a leading lesion
+    outside the spine (a peripheral nerve lesion, a polyneuropathy) nerve conduction studies and EMG."""
+    hyps = getattr(ranking, "hypotheses", ())
+    if hyps and _COMPARTMENT.get(hyps[0].lesion.pattern) == 4:
+        return "nerve conduction studies and EMG tell the remaining hypotheses apart (nothing in the spine to image)"
+    return "imaging tells the remaining hypotheses apart"
+
+
 def lesion_class(lesion) -> tuple[int, int, int]:
     """The management class of one lesion, as `management_class` gives it for the atlas' candidates."""
     a = anatomy()
     comp = _COMPARTMENT.get(lesion.pattern, 1)
     if comp >= 4:
-        return (comp, 2, -1)
+        return (comp, SIDE_CODE[lesion.side] if lesion.pattern in nerve_ids() else 2, -1)
     seg = lesion.top
     if comp == 3:
         region = 3

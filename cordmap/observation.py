@@ -11,6 +11,7 @@ import numpy as np
 from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import item_values
 from .forward import SENSORY_THRESHOLDS, Readout
+from .nerves import muscle_names
 
 # P(recorded grade | true grade) for sensory items; rows true absent/impaired/normal, columns recorded 0/1/2.
 # Judgement (no source): most disagreement is between adjacent grades.
@@ -123,12 +124,16 @@ def crisp_indices(r: Readout, items: tuple) -> np.ndarray:
     out = np.empty((r.sensory.shape[0], len(items)), dtype=np.int8)
     grade = np.where(r.sensory < lo, 2, np.where(r.sensory < hi, 1, 0))
     motor = np.clip(np.floor(r.motor + 0.5), 0, 5)
+    muscles = np.clip(np.floor(r.muscles + 0.5), 0, 5)
+    names = muscle_names()
     for i, key in enumerate(items):
         kind = key[0]
         if kind == "sensory":
             out[:, i] = grade[:, MODALITIES.index(key[1]), SIDES.index(key[2]), a.dermatomes.index(key[3])]
         elif kind == "motor":
             out[:, i] = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
+        elif kind == "muscle":
+            out[:, i] = muscles[:, SIDES.index(key[1]), names.index(key[2])]
         elif kind == "reflex":
             out[:, i] = r.reflexes[(key[1], key[2])]
         else:
@@ -144,6 +149,8 @@ def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarr
     sens = {(m, s): _sensory_block(r.sensory[:, mi, si]) for mi, m in enumerate(MODALITIES)
             for si, s in enumerate(SIDES)}
     motor = _motor_block(r.motor)
+    muscles = _motor_block(r.muscles)  # non-key muscles: graded as the key ones
+    names = muscle_names()
     ordinal4 = _ordinal_confusion(4)
     binary = _binary_confusion()
     for i, key in enumerate(items):
@@ -153,6 +160,8 @@ def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarr
             p = sens[(key[1], key[2])][:, a.dermatomes.index(key[3])]
         elif kind == "motor":
             p = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
+        elif kind == "muscle":
+            p = muscles[:, SIDES.index(key[1]), names.index(key[2])]
         elif kind == "reflex":
             idx = r.reflexes[(key[1], key[2])]
             nv = len(item_values(key))

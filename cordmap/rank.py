@@ -16,7 +16,7 @@ import pandas as pd
 
 from . import atlas as atlas_mod
 from . import cautions as C
-from . import nexttests, observation
+from . import clues, nerves, nexttests, observation
 from .anatomy import MODALITIES, SIDES, anatomy
 from .findings import Findings, parse
 from .fit import PAIR_FIRSTS, SECOND_LESION_GAIN, assess_fit, best_pair, separate  # noqa: F401 (re-exported)
@@ -255,6 +255,12 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     # ...weighted (observation.item_weights) and summed: the log-likelihood of each candidate
     ll = w.astype(np.float32) @ raw if len(cols) else np.zeros(len(at), np.float32)
     lp = ll + (prior or size_prior)(at)
+    clue = clues.log_likelihood(f, at)  # tenderness and band pain (findings format 2); None without them
+    if clue is not None:
+        lp = lp + clue
+    hidden = nerves.unseen(at, [at.item_index[k] for k in items])  # nerve lesions this exam cannot see
+    if hidden is not None:
+        lp = lp + hidden
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
     leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
@@ -276,6 +282,8 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     hyps = () if fit == "empty" else tuple(
         _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d)
         for r, (members, gp) in enumerate(leading[:max(top, 1)]))
+    if clue is not None:  # a compression may lie at a tender vertebra above its level: image it too
+        hyps = tuple(clues.with_windows(h, f) for h in hyps)
     segs = anatomy().segments
     names = d.pattern_names
     sums = np.bincount(d.pattern_code, weights=post, minlength=len(names))
@@ -377,10 +385,20 @@ def ranking_cautions(at, post, f: Findings, hyps=(), classification=None) -> tup
 def batch_scores(exams: list[Findings], at: atlas_mod.Atlas) -> np.ndarray:
     """(exams, candidates) log posterior (unnormalised) for many exams with one matrix product."""
     onehot = np.zeros((len(exams), at.logp.shape[0]), dtype=np.float32)
+    rows = []
     for e, f in enumerate(exams):
         cols, _, w = evidence(f, at)
         onehot[e, cols] = w
-    return onehot @ at.logp + size_prior(at)[None, :]
+        rows.append(np.searchsorted(at.offsets, cols, side="right") - 1)  # the examined items
+    out = onehot @ at.logp + size_prior(at)[None, :]
+    for e, f in enumerate(exams):  # the clues of findings format 2 and the unseen nerve lesions, as rank adds them
+        clue = clues.log_likelihood(f, at)
+        if clue is not None:
+            out[e] += clue
+        hidden = nerves.unseen(at, rows[e])
+        if hidden is not None:
+            out[e] += hidden
+    return out
 
 
 def batch_leaders(at: atlas_mod.Atlas, score: np.ndarray, n: int = 2) -> list[tuple[Lesion, float, tuple, tuple]]:

@@ -14,6 +14,7 @@ from pathlib import Path
 
 from . import cautions as C
 from .errors import CordmapError
+from .nexttests import beyond_the_bedside
 
 FORMATS = ("pdf", "png", "txt")
 PAGE = (8.27, 11.69)  # A4 portrait, inches
@@ -103,8 +104,8 @@ def sheet_lines(findings, ranking, top: int = 5) -> list[Line]:
         lines += [Line("item", t.why) for t in ranking.next_tests]
     elif ranking.fit in ("good", "poor"):
         lines += [Line("gap"), Line("head", "Worth examining next"),
-                  Line("text", "No bedside test left would change what is done: imaging tells the remaining "
-                               "hypotheses apart.")]
+                  Line("text", f"No bedside test left would change what is done: "
+                               f"{beyond_the_bedside(ranking)}.")]
     c = ranking.classification
     lines += [Line("gap"), Line("head", "ISNCSCI classification of the entered exam (2019 rules)")]
     if c is None:

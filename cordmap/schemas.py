@@ -5,8 +5,8 @@ cordmap; ``python -m cordmap.schemas`` rewrites them from `build()`, and ``tests
 shipped files equal what `build()` makes and that schema and reader agree (the differences a schema cannot express
 are listed there). This module needs no JSON Schema library: it only writes dicts.
 
-* ``findings.schema.json``: ``cordmap-findings/1`` as `cordmap.findings.parse` reads it (text grades are matched
-  as the reader matches them: surrounding whitespace ignored, any case);
+* ``findings.schema.json``: ``cordmap-findings/1`` and ``/2`` as `cordmap.findings.parse` reads them (text grades
+  are matched as the reader matches them: surrounding whitespace ignored, any case);
 * ``batch-line.schema.json``: one line of a JSONL cohort (a findings document with an optional ``case_id``);
 * ``ranking.schema.json``: ``cordmap-ranking/1`` as `Ranking.to_dict` writes it;
 * ``classification.schema.json``: ``cordmap-classification/1`` as `Classification.to_dict` writes it.
@@ -92,8 +92,14 @@ def _findings_properties() -> dict:
     signs = {"horner": _object(SIDES, {"type": "boolean"})}
     for name, allowed in SIGNS.items():
         signs[name] = {"type": "boolean"} if allowed == (True, False) else _words(allowed)
+    from .findings_v2 import FORMAT2, VERTEBRAE, muscle_names
+
+    derm_spec = {"type": "string", "pattern": f"^{ws}*({derm})(-({derm}))?{ws}*$",
+                 "description": "dermatome or range (rostral end first)"}
+    vertebra = {"type": "string", "pattern": f"^{ws}*({'|'.join(VERTEBRAE)}){ws}*$"}
     return {
-        "format": {"const": FORMAT},
+        "format": {"enum": [FORMAT, FORMAT2],
+                   "description": f"{FORMAT2} adds muscles, tenderness and band_pain"},
         "label": {"type": "string", "description": "free text, never a patient identifier"},
         "phase": {"enum": list(PHASES), "description": "acute: spinal shock; chronic by default"},
         "caution": {"type": "string", "description": "the clinical caution cordmap writes; ignored on reading"},
@@ -101,14 +107,30 @@ def _findings_properties() -> dict:
         "motor": _object(SIDES, _object(a.key_myotomes, motor_grade)),
         "reflexes": _object(SIDES, reflex_side),
         "signs": {"type": "object", "properties": signs, "additionalProperties": False},
+        "muscles": _object(SIDES, _object(muscle_names(), motor_grade)) | {
+            "description": f"{FORMAT2}: non-key limb muscles per side, MRC 0-5 or NT"},
+        "tenderness": {"type": "array", "items": vertebra,
+                       "description": f"{FORMAT2}: vertebrae tender to percussion"},
+        "band_pain": _object(SIDES, {"type": "array", "items": derm_spec}) | {
+            "description": f"{FORMAT2}: dermatomes of band-like or radicular pain per side"},
     }
 
 
+def _version_rule() -> dict:
+    """A cordmap-findings/1 document may not use the keys of version 2."""
+    from .findings import FORMAT
+    from .findings_v2 import KEYS
+
+    return {"if": {"properties": {"format": {"const": FORMAT}}},
+            "then": {"not": {"anyOf": [{"required": [k]} for k in KEYS]}}}
+
+
 def _findings() -> dict:
-    return {"$schema": DRAFT, "$id": BASE + "findings.schema.json", "title": "cordmap findings (cordmap-findings/1)",
+    return {"$schema": DRAFT, "$id": BASE + "findings.schema.json",
+            "title": "cordmap findings (cordmap-findings/1 and /2)",
             "description": "One bedside exam. A key that is missing was not examined (never read as normal).",
             "type": "object", "required": ["format"], "properties": _findings_properties(),
-            "additionalProperties": False}
+            "additionalProperties": False, **_version_rule()}
 
 
 def _batch_line() -> dict:
@@ -122,8 +144,9 @@ def _batch_line() -> dict:
         {"type": "integer"}], "description": "the case's id (the line number when absent); unique in the file"}
     return {"$schema": DRAFT, "$id": BASE + "batch-line.schema.json",
             "title": "one line of a cordmap JSONL cohort",
-            "description": "A findings document (cordmap-findings/1) with an optional case_id, on one line.",
-            "type": "object", "required": ["format"], "properties": props, "additionalProperties": False}
+            "description": "A findings document (cordmap-findings/1 or /2) with an optional case_id, on one line.",
+            "type": "object", "required": ["format"], "properties": props, "additionalProperties": False,
+            **_version_rule()}
 
 
 def _classification_def() -> dict:

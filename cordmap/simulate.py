@@ -13,6 +13,7 @@ from dataclasses import fields
 
 import numpy as np
 
+from . import nerves
 from .anatomy import MODALITIES, REFLEXES, SIDES, anatomy
 from .findings import SIGNS, Findings, reflex_values
 from .forward import (
@@ -26,6 +27,7 @@ from .forward import (
 )
 from .lesions import CUSTOM, Lesion, lesion_masks
 from .model import DEFAULT_RESOLUTION, sections
+from .nerves import muscle_names
 
 SIGN_KEYS = (("horner", "left"), ("horner", "right"), *((name, "") for name in SIGNS))
 
@@ -52,6 +54,8 @@ def readout_to_findings(r: Readout, i: int, label: str = "", phase: str = "chron
     for sd, side in enumerate(SIDES):
         for k, myo in enumerate(a.key_myotomes):
             items[("motor", side, myo)] = int(np.clip(np.floor(r.motor[i, sd, k] + 0.5), 0, 5))
+        for k, name in enumerate(muscle_names()):
+            items[("muscle", side, name)] = int(np.clip(np.floor(r.muscles[i, sd, k] + 0.5), 0, 5))
         for name in REFLEXES:
             items[("reflex", side, name)] = reflex_values(name)[int(r.reflexes[(side, name)][i])]
     for name, side in SIGN_KEYS:
@@ -108,7 +112,9 @@ def predict(lesion: Lesion, resolution: int = DEFAULT_RESOLUTION) -> Readout:
     cum = variant_sums(lesion, resolution)
     L = extent_losses(cum, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
     L = with_neuropathy(L, np.array([lesion.all_params().get("neuropathy", 0.0)]))
-    return readout(L, lesion.phase == "acute")
+    r = readout(L, lesion.phase == "acute")
+    return nerves.apply(r, *nerves.candidate_codes([lesion.pattern], [lesion.side],
+                                                   [lesion.all_params().get("severity", 1.0)]))
 
 
 def simulate(lesion: Lesion, label: str | None = None, resolution: int = DEFAULT_RESOLUTION) -> Findings:

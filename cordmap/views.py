@@ -44,8 +44,8 @@ def _clip(lines: list[str]) -> str:
 def findings_counts(f) -> dict[str, int]:
     """How many items of each part of the exam were entered."""
     out = {"sensory": 0, "motor": 0, "reflex": 0, "sign": 0}
-    for key in f.items:
-        out[key[0]] += 1
+    for key in f.items:  # findings format 2: non-key muscles count as motor, tenderness and band pain as signs
+        out[{"muscle": "motor", "tenderness": "sign", "band_pain": "sign"}.get(key[0], key[0])] += 1
     return out
 
 

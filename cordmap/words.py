@@ -12,6 +12,8 @@ values read differently where the bedside picture differs.
 from __future__ import annotations
 
 from .lesions import CUSTOM, NORMAL, PATTERNS, Lesion
+from .nerves import nerve_ids
+from .nerves import words as nerve_words
 
 
 def _band(value: float, bands: tuple[tuple[float, str], ...]) -> str:
@@ -26,6 +28,7 @@ def _band(value: float, bands: tuple[tuple[float, str], ...]) -> str:
 _INCOMPLETE = ((0.34, "mild, incomplete"), (0.6, "incomplete"), (0.99, "severe but incomplete"), (1.0, ""))
 # share lost in a diffuse degeneration
 _DEGENERATION = ((0.4, "mild"), (0.7, "moderate"), (1.0, "advanced"))
+_NERVE = ((0.4, "mild, partial"), (0.8, "partial"), (0.99, "severe, partial"), (1.0, ""))
 _ROOT = ((0.25, "mild, partial"), (0.5, "partial"), (0.8, "severe, partial"), (1.0, ""))
 # how far an extrinsic compression reaches: a side one up to half the cord, a front or back one up to 0.7 of its depth
 _SIDE_DEPTH = ((0.12, "shallow, the roots only"), (0.2, "shallow"), (0.36, "moderately deep"),
@@ -104,6 +107,8 @@ def describe(lesion: Lesion) -> str:
         return _join(f"cauda equina: {_roots_below(lesion.top)}, {sides}", low, sev)
     if p == "root":
         return _join(f"{side} {lesion.top} root", _band(q.get("severity", 1.0), _ROOT))
+    if p in nerve_ids():
+        return _join(nerve_words(p, side), _band(q.get("severity", 1.0), _NERVE))
     if p == "polyneuropathy":
         return f"length-dependent polyneuropathy ({_band(q.get('neuropathy', 0.65), _DEGENERATION)})"
     side_word = "" if side == "both" else f"{side} "

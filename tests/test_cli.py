@@ -24,8 +24,9 @@ def test_patterns_lists_every_id(capsys):
 def test_simulate_prints_a_findings_document(capsys):
     assert main(["simulate", "hemisection", "--side", "left", "--rostral", "T6"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["format"] == "cordmap-findings/1"
+    assert doc["format"] == "cordmap-findings/2"  # the forward model predicts the non-key muscles too
     assert doc["motor"]["left"]["L3"] == 0 and doc["motor"]["right"]["L3"] == 5
+    assert doc["muscles"]["left"]["hip_adduction"] == 0 and doc["muscles"]["right"]["hip_adduction"] == 5
 
 
 @pytest.mark.parametrize("args, needle", [

@@ -637,7 +637,7 @@ def test_malformed_documents_raise_cordmap_error(doc):
     ({"format": FMT, "sensory": {"pinprick": {"left": {"C5": 3}}}}, "sensory.pinprick.left['C5']"),
     ({"format": FMT, "sensory": {"smell": {}}}, "sensory['smell']"),
     ({"format": FMT, "colour": "blue"}, "colour"),
-    ({"format": "cordmap-findings/2"}, "format"),
+    ({"format": "cordmap-findings/3"}, "format"),
     ({"format": FMT, "phase": "subacute"}, "phase"),
     ({"format": FMT, "signs": {"bladder": "full"}}, "signs['bladder']"),
 ])

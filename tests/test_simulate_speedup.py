@@ -11,6 +11,7 @@ import importlib
 import numpy as np
 import pytest
 
+from cordmap import nerves
 from cordmap.anatomy import anatomy
 from cordmap.forward import (
     along_extent,
@@ -32,11 +33,14 @@ def reference_predict(lesion: Lesion):
     per_seg = fibre_losses_per_segment(masks[None])
     L = along_extent(per_seg, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
     L = with_neuropathy(L, np.array([lesion.all_params().get("neuropathy", 0.0)]))
-    return readout_by_item(L, lesion.phase == "acute")
+    r = readout_by_item(L, lesion.phase == "acute")
+    # a single nerve lesion (no mask) lays its losses over the readout: the same step as the fast path's
+    return nerves.apply(r, *nerves.candidate_codes([lesion.pattern], [lesion.side],
+                                                   [lesion.all_params().get("severity", 1.0)]))
 
 
 def assert_same_readout(a, b, what):
-    for name in ("sensory", "motor", "motor_umn", "motor_lmn"):
+    for name in ("sensory", "motor", "motor_umn", "motor_lmn", "muscles", "muscles_umn", "muscles_lmn"):
         x, y = getattr(a, name), getattr(b, name)
         assert x.dtype == y.dtype and x.shape == y.shape, (what, name)
         assert np.array_equal(x, y), (what, name, float(np.abs(x - y).max()))

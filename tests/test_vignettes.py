@@ -14,6 +14,7 @@ import pytest
 from cordmap import casebook
 from cordmap.errors import CordmapError
 from cordmap.findings import all_items
+from cordmap.lesions import Lesion
 from cordmap.rank import rank
 
 FOLDER = Path(__file__).parent / "vignettes"
@@ -99,3 +100,41 @@ def test_normal_exam_is_called_normal_with_nothing_to_image():
     assert r.best.probability > 0.9
     text = " ".join(r.cautions)
     assert "dysreflexia" not in text and "breathing" not in text and "Decision support" in text
+
+
+# ------------------------------------------------------------------ the answer family peripheral_nerve (format 2)
+
+# an invented exam for the scoring test (not a corpus case): a right foot drop with normal inversion and hip
+# abduction, the peronei weak, the dorsum of the foot numb, the ankle jerk kept
+PERONEAL = {"format": "cordmap-findings/2",
+            "motor": {"right": {"L2": 5, "L3": 5, "L4": 2, "L5": 2, "S1": 5},
+                      "left": {"L2": 5, "L3": 5, "L4": 5, "L5": 5, "S1": 5}},
+            "muscles": {"right": {"ankle_eversion": 2, "ankle_inversion": 5, "hip_abduction": 5}},
+            "sensory": {"pinprick": {"right": {"L4": "normal", "L5": "impaired", "S1": "normal"}}},
+            "reflexes": {"right": {"knee": "normal", "ankle": "normal"}}}
+
+
+def test_a_peripheral_nerve_answer_needs_family_side_and_nerve(tmp_path):
+    doc = {"format": "cordmap-vignette/1", "id": "t1", "title": "invented", "source": "invented for a test",
+           "findings": PERONEAL,
+           "expected": {"answer": "lesion", "lesions": [{"families": ["peripheral_nerve"], "nerve":
+                                                         "peroneal_fibular_head", "side": "right", "top": None,
+                                                         "image": []}]}}
+    path = tmp_path / "t1.json"
+    path.write_text(json.dumps(doc))
+    case = casebook.load_case(path)
+    assert case.lesions[0].nerve == "peroneal_fibular_head"
+    res = casebook.score(case, rank(case.findings, top=5, next_tests=0, classify=False))
+    assert res.top1 and res.window and res.family == "peripheral_nerve"
+    e = case.lesions[0]
+    assert e.matches(Lesion("peroneal_fibular_head", "right", "L5"))
+    assert not e.matches(Lesion("peroneal_fibular_head", "left", "L5"))
+    assert not e.matches(Lesion("root", "right", "L5"))
+    ulnar = casebook.Expected(("peripheral_nerve",), "right", None, (), "ulnar_elbow")
+    wrong = casebook.Case("t2", "", "", "lesion", (ulnar,),
+                 case.findings)
+    assert not casebook.score(wrong, rank(case.findings, top=5, next_tests=0, classify=False)).top1
+    doc["expected"]["lesions"][0]["nerve"] = "sciatic"
+    path.write_text(json.dumps(doc))
+    with pytest.raises(CordmapError, match="nerve"):
+        casebook.load_case(path)

@@ -185,6 +185,27 @@ def test_motor_reflex_sign_and_phase_widgets(app):
     assert not app.errors
 
 
+def test_non_key_muscles_and_clues_widgets(app):
+    # findings format 2 in the "Muscles & reflexes" tab (widgets/limb_panel.py)
+    app.entry[("muscle", "right", "ankle_eversion")].value = "2"
+    assert app.findings.get(("muscle", "right", "ankle_eversion")) == 2
+    app.entry[("muscle", "right", "ankle_eversion")].value = "NT"
+    assert app.findings.get(("muscle", "right", "ankle_eversion")) == "NT"
+    limb = app.power.limb
+    limb.tender.value = ["T6", "T7"]
+    assert app.findings.get(("tenderness", "T6", "")) is True and app.findings.get(("tenderness", "T7", "")) is True
+    limb.tender.value = ["T7"]
+    assert ("tenderness", "T6", "") not in app.findings.items
+    limb.band["left"].value = ["T6"]
+    assert app.findings.get(("band_pain", "left", "T6")) is True and ("band_pain", "right", "T6") not in \
+        app.findings.items
+    assert app.findings.to_dict()["format"] == "cordmap-findings/2"
+    other = ExamApp(app.findings)  # the entries show what an opened exam holds
+    assert other.power.limb.tender.value == ("T7",) or list(other.power.limb.tender.value) == ["T7"]
+    assert other.entry[("muscle", "right", "ankle_eversion")].value == "NT"
+    assert not app.errors
+
+
 def test_poor_fit_verdict_is_shown(app):
     # a contradictory exam: every sensation absent, every muscle full strength, reflexes normal
     items = {("sensory", m, s, d): 0 for m in MODALITIES for s in SIDES for d in anatomy().dermatomes}

@@ -5,7 +5,7 @@ Where each part of the page lives (one file per panel, each showing the state it
 =====================================  ================================
 top bar: label, demo, open, save, sheet  `files_panel.py`
 tab "Sensation"                         `sensation_panel.py`
-tab "Muscles & reflexes"                `power_panel.py`
+tab "Muscles & reflexes"                `power_panel.py` (and `limb_panel.py`)
 tab "Sacral & autonomic"                `sacral_panel.py`
 "Worth examining next"                  `next_tests_panel.py`
 "Where the lesion may be", the facts    `hypotheses_panel.py`
@@ -38,7 +38,7 @@ from .style import CSS
 
 N_ROWS = 5  # hypotheses shown
 N_NEXT = 5  # next tests shown
-TAB_OF_KIND = {"sensory": 0, "motor": 1, "reflex": 1, "sign": 2}
+TAB_OF_KIND = {"sensory": 0, "motor": 1, "reflex": 1, "muscle": 1, "sign": 2}
 
 
 class ExamApp:

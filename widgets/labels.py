@@ -18,6 +18,11 @@ GLYPH = {None: "\u00a0", 2: "2", 1: "1", 0: "0"}
 GRADE_WORD = {None: "not examined", **dict(zip(items.SENSORY_SCALE.values, items.SENSORY_SCALE.words))}
 MOD_WORD = items.MODALITY_WORDS
 SIGN_WORD = {name: e.words for name, e in items.SIGNS.items()}
+# the non-key muscles of findings format 2, in a column header's few words
+LIMB_WORD = {"shoulder_abduction": "shoulder abd.", "forearm_pronation": "forearm pron.",
+             "finger_extension": "finger ext.", "thumb_abduction": "thumb abd.", "index_finger_abduction": "index abd.",
+             "hip_adduction": "hip add.", "hip_abduction": "hip abd.", "knee_flexion": "knee flex.",
+             "ankle_inversion": "ankle inv.", "ankle_eversion": "ankle ev."}
 # the sensations the body picture can show, in the order a clinician usually tests them
 PICTURE_MODALITIES = ("pinprick", "light_touch", "vibration", "temperature", "joint_position")
 

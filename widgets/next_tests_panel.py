@@ -6,6 +6,8 @@ import functools
 
 import ipywidgets as W
 
+from cordmap.nexttests import beyond_the_bedside
+
 
 class NextTestsPanel:
     """``widget``: the heading and one button per suggestion (its whole text wraps; nothing is cut)."""
@@ -22,6 +24,7 @@ class NextTestsPanel:
             b.on_click(state.guard(functools.partial(self._on_click, i)))
             self.buttons.append(b)
         self.widget = W.VBox([head, *self.buttons])
+        self.widget.add_class("cm-nextbox")  # its text wraps to the column; it never widens it (style.py)
 
     def _on_click(self, i, _button):
         tests = self.state.ranking.next_tests if self.state.ranking else ()
@@ -41,5 +44,5 @@ class NextTestsPanel:
             else:
                 b.layout.display = "none"
         none = not tests and self.state.ranking.fit in ("good", "poor")
-        self.head.value = ("Worth examining next: no bedside test left would change what is done; imaging tells "
-                           "the remaining hypotheses apart" if none else "Worth examining next")
+        self.head.value = ("Worth examining next: no bedside test left would change what is done; "
+                           f"{beyond_the_bedside(self.state.ranking)}" if none else "Worth examining next")

@@ -1,4 +1,5 @@
-"""The tab "Muscles & reflexes": the key muscles' MRC grades (0-5, NT) per side, and the reflexes per side."""
+"""The tab "Muscles & reflexes": the key muscles' MRC grades (0-5, NT) per side, the reflexes per side, and the
+non-key muscles and localizing clues (`limb_panel.py`)."""
 from __future__ import annotations
 
 import ipywidgets as W
@@ -33,7 +34,13 @@ class PowerPanel:
             refl.append(W.HBox([lab, *[self.dd.make(("reflex", s, r), "100px") for s in SIDES]]))
         half = (len(refl) + 1) // 2
         grid = W.HBox([W.VBox(refl[:half]), W.VBox([refl[0]] + refl[half:])])
-        self.widget = W.VBox([*rows, W.HTML("<hr style='border:0;border-top:1px solid #d5dbe3'>"), grid])
+        from .limb_panel import LimbPanel  # findings format 2: non-key muscles and the clues
+
+        self.limb = LimbPanel(state)
+        self.entry = {**self.dd.entry, **self.limb.entry}
+        rule = [W.HTML("<hr style='border:0;border-top:1px solid #d5dbe3'>") for _ in range(2)]
+        self.widget = W.VBox([*rows, rule[0], grid, rule[1], self.limb.widget])
 
     def show(self) -> None:
         self.dd.show()
+        self.limb.show()

@@ -83,6 +83,7 @@ CSS = f"""
 .cm-upload.widget-upload, .cm-upload.jupyter-button {{ font-size: 0; }}
 .cm-upload.widget-upload::after, .cm-upload.jupyter-button::after {{ content: "Open findings…"; font-size: 13px; }}
 .cm-exam {{ flex: 0 0 auto; margin-right: 6px; }}
+.cm-nextbox {{ contain: inline-size; }}
 .cm-hyps {{ flex: 1 1 auto; min-width: 0; }}
 .cm-app .widget-tab > .p-TabBar .p-TabBar-tab, .cm-app .lm-TabBar-tab {{ font-size: 13px; min-width: 120px; }}
 .cm-fill.widget-button {{ padding: 0 10px; }}
