@@ -190,12 +190,17 @@ def _posterolateral(sec, xs, side, p):
     # dying-back front (`_dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
     # `data/axons.csv`); in the lateral columns a share growing with the body segment, from LENGTH_SHARE[0] x the
     # share at C1 to LENGTH_SHARE[1] x at S5 (`_thin_by_length`).
+    dc, lateral = _memo("posterolateral", sec, _posterolateral_sectors)
+    lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
+    return _dying_back(sec, dc, p["severity"]) | _thin_by_length(sec, lateral, lateral_share)
+
+
+def _posterolateral_sectors(sec):
+    """(dorsal columns, dorsolateral funiculi): the white matter of each sector (kept per section, read-only)."""
     white = _white(sec)
     dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
-    lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
-    lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
-    return _dying_back(sec, dc, p["severity"]) | _thin_by_length(sec, lateral, lateral_share)
+    return dc, white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
 
 
 LENGTH_SHARE = (0.55, 1.45)
@@ -258,13 +263,14 @@ LEVEL_FULL_DEPTH = 0.35  # the gray matter and roots at the level are squeezed i
 
 
 def _structures(sec, names):
-    return np.isin(sec.structure, [S[n] for n in names])
+    """Pixels of any of the named structures (kept per section: read-only, never changed in place)."""
+    return _memo(("structures", names), sec, lambda s: np.isin(s.structure, [S[n] for n in names]))
 
 
 def _flattened(sec, depth, order, level):
     m = _thin(sec, level, float(np.clip(depth / LEVEL_FULL_DEPTH, 0.0, 1.0)))
     for names, (lo, hi) in order.items():
-        m |= _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0)))
+        m = m | _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0)))
     return m
 
 
@@ -565,14 +571,36 @@ class Lesion:
         return describe(self)
 
 
+def _shape_params(pat: Pattern, params: dict) -> dict:
+    """What a pattern's draw function sees: an incomplete pattern draws its shape without `severity` (the share
+    destroyed thins that shape afterwards), so one shape serves every severity."""
+    return {k: v for k, v in params.items() if k != "severity"} if _INCOMPLETE in pat.params else params
+
+
 def draw_mask(pattern: str, side: str, params: dict, sec: Section) -> np.ndarray:
     """The boolean mask of a named pattern on one section."""
     xs = sec.x if side != "left" else -sec.x
     pat = PATTERNS[pattern]
-    mask = pat.draw(sec, xs, side, params)
+    mask = pat.draw(sec, xs, side, _shape_params(pat, params))
     if _INCOMPLETE in pat.params:
         mask = _thin(sec, mask, params.get("severity", 1.0))
     return mask
+
+
+def draw_masks(variants, sec: Section):
+    """`draw_mask` of many (pattern, side, params) on one section, in order: an incomplete pattern's shape is drawn
+    once for all its severities (the atlas' build)."""
+    shapes: dict[tuple, np.ndarray] = {}
+    for pattern, side, params in variants:
+        pat = PATTERNS[pattern]
+        if _INCOMPLETE not in pat.params:
+            yield draw_mask(pattern, side, params, sec)
+            continue
+        shape = _shape_params(pat, params)
+        key = (pattern, side, tuple(sorted(shape.items())))
+        if key not in shapes:
+            shapes[key] = pat.draw(sec, sec.x if side != "left" else -sec.x, side, shape)
+        yield _thin(sec, shapes[key], params.get("severity", 1.0))
 
 
 def lesion_masks(lesion: Lesion, secs) -> np.ndarray:

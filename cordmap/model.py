@@ -80,6 +80,8 @@ class Section:
     region: np.ndarray  # region id per pixel, -1 outside
     regions: tuple[tuple[int, int, int], ...]  # region id -> (structure, side, body)
     region_pixels: np.ndarray  # pixel count per region
+    by_region: np.ndarray  # flat pixel indices inside the section, region by region (each region's in raster order)
+    region_starts: np.ndarray  # where each region begins in `by_region`
 
     def fraction_lost(self, mask: np.ndarray) -> np.ndarray:
         """Destroyed fraction of every region for one mask (n, n) or a stack of masks (k, n, n).
@@ -91,13 +93,14 @@ class Section:
         inside = flat >= 0
         counted = np.asarray(mask).dtype == bool
         m = np.asarray(mask, dtype=bool if counted else np.float32).reshape(-1, self.region.size)
-        out = np.zeros((m.shape[0], len(self.regions)), dtype=np.float32)
-        ids = None if counted else flat[inside]
-        for k in range(m.shape[0]):
-            if counted:
-                out[k] = np.bincount(flat[m[k] & inside], minlength=len(self.regions))
-            else:
-                out[k] = np.bincount(ids, weights=m[k, inside], minlength=len(self.regions))
+        nr = len(self.regions)
+        out = np.zeros((m.shape[0], nr), dtype=np.float32)
+        if counted:  # the pixels of every mask gathered region by region and summed per region, all masks at once
+            out[:] = np.add.reduceat(m[:, self.by_region].view(np.uint8), self.region_starts, axis=1, dtype=np.int32)
+        else:
+            ids = flat[inside]
+            for k in range(m.shape[0]):
+                out[k] = np.bincount(ids, weights=m[k, inside], minlength=nr)
         out /= self.region_pixels
         return out if np.ndim(mask) == 3 else out[0]
 
@@ -260,12 +263,20 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
     region[key >= 0] = inv
     regions = tuple((int(k // 64 // 3), int(k // 64 % 3) - 1, int(k % 64) - 2) for k in uniq)
     counts = np.bincount(inv, minlength=len(uniq)).astype(np.float32)
-    return Section(a.segments[s], s, x, y, st, side, body, region, regions, counts)
+    flat = region.ravel()
+    inside = np.flatnonzero(flat >= 0)
+    by_region = inside[np.argsort(flat[inside], kind="stable")]
+    starts = np.searchsorted(flat[by_region], np.arange(len(uniq)))  # every region has a pixel: strictly rising
+    return Section(a.segments[s], s, x, y, st, side, body, region, regions, counts, by_region, starts)
+
+
+def sections(resolution: int = DEFAULT_RESOLUTION) -> tuple[Section, ...]:
+    """The sections of all 31 segments (built once per resolution, however the resolution is passed)."""
+    return _sections(int(resolution))
 
 
 @cache
-def sections(resolution: int = DEFAULT_RESOLUTION) -> tuple[Section, ...]:
-    """The sections of all 31 segments (built once per resolution)."""
+def _sections(resolution: int) -> tuple[Section, ...]:
     return tuple(build_section(s, resolution) for s in range(len(anatomy().segments)))
 
 
