@@ -333,7 +333,7 @@ _SAC_FIRST, _SAC_LAST = "L1", "Co1"
 _SAC_WIDTH = 3.0  # a root's width in root spacings
 
 
-def _sac_share(index: int, medial: float) -> float:
+def sac_share(index: int, medial: float) -> float:
     """The share of segment `index`'s roots lying within `medial` (a share of one side of the sac) of the midline."""
     a = anatomy()
     first, last = a.index(_SAC_FIRST), a.index(_SAC_LAST)
@@ -348,7 +348,7 @@ def _sac_share(index: int, medial: float) -> float:
 def _cauda_equina(sec, xs, side, p):
     # The worse side loses all its roots; the other side its roots' outer share `contra` (a mass pressing from the
     # side) and, with `medial` > 0 (a central disc reaching across the midline), its innermost, lowest roots.
-    contra = max(p["contra"], _sac_share(sec.index, p.get("medial", 0.0)))
+    contra = max(p["contra"], sac_share(sec.index, p.get("medial", 0.0)))
     return _root_part(sec, xs > 0, 1.0) | _root_part(sec, xs < 0, contra)
 
 
@@ -448,10 +448,12 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
              Param("upper", 1.0, (0.7, 1.0), 0.1, 1.0,
                    "the corticospinal tracts' share of `severity` (0.7: upper motor neuron signs with little "
                    "corticospinal weakness)")), diffuse=True),
-    Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),
+    Pattern("conus", "the conus medullaris with its roots (the sacral cord behind T12-L1): symmetric, the sphincters "
+            "early", ("both",), _conus, (_INCOMPLETE,),
             tops=("L5", "S4"),
             bottom_fixed="Co1"),
-    Pattern("cauda_equina", "the lumbosacral roots below the conus, worse on one side", ("left", "right"),
+    Pattern("cauda_equina", "the lumbosacral roots in the sac below the conus, from the highest caught down (named "
+            "by the disc or canal level where it is caught), worse on one side or central", ("left", "right"),
             _cauda_equina,
             (Param("contra", 0.5, (0.0, 0.5, 1.0), 0.0, 1.0, "share of the other side's roots involved"),
              Param("medial", 0.0, (0.0, 0.33), 0.0, 1.0,
