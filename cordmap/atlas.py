@@ -29,9 +29,10 @@ from .forward import (
     fibre_losses_from_fractions,
     read_columns,
     readout,
+    scale_fibres,
     with_neuropathy,
 )
-from .lesions import PATTERNS, Lesion, draw_masks
+from .lesions import PATTERNS, Lesion, draw_masks, fibre_shares
 from .model import DEFAULT_RESOLUTION, sections
 
 
@@ -232,9 +233,13 @@ def _variant_losses(vs: tuple[Variant, ...], resolution: int) -> tuple[np.ndarra
     fractions = []
     for s, sec in enumerate(secs):
         masks = np.stack(list(draw_masks([(v.pattern, v.side, dict(v.params)) for v in vs], sec)))
-        area_seg[:, s] = np.count_nonzero(masks & cord, axis=(1, 2))
+        area_seg[:, s] = (masks * cord).sum(axis=(1, 2))  # a thinned mask counts its share of each pixel
         fractions.append(sec.fraction_lost(masks))
     per_seg = fibre_losses_from_fractions(fractions, resolution)
+    for i, v in enumerate(vs):
+        shares = fibre_shares(v.pattern, dict(v.params))
+        if shares:
+            per_seg[i] = scale_fibres(per_seg[i], shares)
     per_seg.flags.writeable = False
     area_seg = area_seg / cord.sum()
     area_seg.flags.writeable = False

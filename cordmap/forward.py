@@ -127,6 +127,19 @@ def fibre_losses_from_fractions(fractions, resolution: int = DEFAULT_RESOLUTION)
     return np.clip(out, 0.0, 1.0, out=out)
 
 
+def scale_fibres(per_segment: np.ndarray, shares: dict[str, np.ndarray] | None) -> np.ndarray:
+    """(k, 31, features) losses with the features of each named stage multiplied by a share per body segment
+    (`lesions.fibre_shares`: a loss that picks fibres by their length, not their place); `per_segment` if None."""
+    if not shares:
+        return per_segment
+    out = per_segment.copy()
+    for stage, share in shares.items():
+        for (st, _side, j), col in feature_index().items():
+            if st == stage:
+                out[..., col] *= np.float32(share[j])
+    return out
+
+
 # Long tracts: the same fibres pass every segment of a lesion's extent, and a named pattern has the same shape at
 # each segment, so a long lesion cuts the same fibres again rather than new ones. A long-tract feature's loss over
 # the extent is therefore the mean over its segments of the share of the fibres there that are lost (a geometric

@@ -82,48 +82,22 @@ def _white(sec):
     return _memo("white", sec, lambda s: np.isin(s.structure, _WHITE))
 
 
-def _hash01(i: np.ndarray, k: np.ndarray) -> np.ndarray:
-    """A fixed pseudo-random number in [0, 1) for each integer pair (i, k): a 64-bit mix, the same on every machine."""
-    with np.errstate(over="ignore"):
-        h = i.astype(np.uint64) * np.uint64(0x9E3779B97F4A7C15) ^ k.astype(np.uint64) * np.uint64(0xC2B2AE3D27D4EB4F)
-        h ^= h >> np.uint64(31)
-        h *= np.uint64(0xBF58476D1CE4E5B9)
-        h ^= h >> np.uint64(29)
-        h *= np.uint64(0x94D049BB133111EB)
-        h ^= h >> np.uint64(32)
-    return (h >> np.uint64(11)).astype(np.float64) / float(1 << 53)
-
-
-def _make_rank(sec) -> np.ndarray:
-    n = sec.x.shape[0]
-    j = np.arange(n)
-    mirror = np.abs(2 * j - (n - 1)) // 2  # the same for a column and its mirror image (the grid is symmetric)
-    rows, cols = np.meshgrid(j, mirror, indexing="ij")
-    field = _hash01(rows, cols)
-    region = sec.region
-    inside = region >= 0
-    key = region[inside] * 2.0 + field[inside]  # sorts by region, then by the field within the region
-    ordered = np.sort(key)
-    lo = np.searchsorted(ordered, key, "left")
-    hi = np.searchsorted(ordered, key, "right")  # mirror twins in a midline region tie: they share one rank
-    start = np.searchsorted(ordered, region[inside] * 2.0, "left")
-    out = np.ones(region.shape)
-    out[inside] = ((lo + hi) / 2 - start) / sec.region_pixels[region[inside]]
-    return out
-
-
-def _dither_rank(sec) -> np.ndarray:
-    """Per pixel, its rank in [0, 1) within its region under a fixed pseudo-random order over (|x|, y).
-
-    Keeping the pixels with rank < severity thins a mask evenly: every region (one structure, side and body
-    segment) keeps the share `severity` of its pixels to within one pixel, the thinned masks are nested (a larger
-    severity is a superset) and mirror-symmetric. It models diffuse, partial degeneration of a territory.
-    """
-    return _memo("rank", sec, _make_rank)
-
-
 def _thin(sec, mask, severity):
-    return mask if severity >= 1 else mask & (_dither_rank(sec) < severity)
+    """`mask` with the share `severity` of each pixel destroyed: an even, partial loss of a territory (diffuse
+    degeneration, an incomplete lesion). A thinned mask is a weight per pixel (float32): every region it reaches loses
+    exactly that share, whatever its size, so a tract's layers lose the same share all along the body (a pixel dither
+    rounded each layer's share to its own pixel count: a stripe where the share sat near a grade's bound). Thinning
+    a thinned mask keeps the smaller share (`np.minimum`): nested shares of one territory, as a dither's were."""
+    if severity >= 1:
+        return mask
+    return np.minimum(np.asarray(mask, dtype=np.float32), np.float32(max(severity, 0.0)))
+
+
+def _union(a, b):
+    """Pixels lost to either of two masks: `|` of two boolean masks, the larger share of two weighted ones."""
+    if a.dtype == bool and b.dtype == bool:
+        return a | b
+    return np.maximum(np.asarray(a, dtype=np.float32), np.asarray(b, dtype=np.float32))
 
 
 def _roots(sec):
@@ -160,7 +134,7 @@ def _central(sec, xs, side, p):
     # than the arms.
     columns = p.get("columns", 0.0)
     if columns > 0:
-        core = core | _thin(sec, sec.structure == S["lateral_corticospinal"], columns)
+        core = _union(core, _thin(sec, sec.structure == S["lateral_corticospinal"], columns))
     return core
 
 
@@ -187,12 +161,14 @@ def _posterolateral(sec, xs, side, p):
     # brisk arm jerks in some, severe spastic weakness a late one (from memory).
     # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms, the toes
     # before the ankles; from memory, standard neurology teaching on B12 deficiency). In the dorsal columns a
-    # dying-back front (`_dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
+    # dying-back front (`dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
     # `data/axons.csv`); in the lateral columns a share growing with the body segment, from LENGTH_SHARE[0] x the
     # share at C1 to LENGTH_SHARE[1] x at S5 (`_thin_by_length`).
+    # The dorsal columns are drawn whole: which of their fibres die back is a matter of each fibre's length, not of
+    # where it lies, so `fibre_shares` gives each body segment's share lost (applied to the fibres, not the pixels).
     dc, lateral = _memo("posterolateral", sec, _posterolateral_sectors)
     lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
-    return _dying_back(sec, dc, p["severity"]) | _thin_by_length(sec, lateral, lateral_share)
+    return _union(dc, _thin_by_length(sec, lateral, lateral_share))
 
 
 def _posterolateral_sectors(sec):
@@ -215,16 +191,23 @@ DC_FRONT = (150.0, 120.0)
 DC_RAMP = 30.0
 
 
-def _dying_back(sec, mask, severity):
-    """`mask` thinned by a length-dependent front: each laminated pixel's share lost grows with the length of its
-    body segment's whole sensory axon (other pixels: the share at the mean length)."""
-    if severity >= 1:
-        return mask
+def dying_back(severity: float) -> np.ndarray:
+    """(31,) the share of each body segment's dorsal-column fibres lost to a length-dependent front of `severity`:
+    grows with the length of the segment's whole sensory axon (ganglion to skin plus dorsal column to the medulla)."""
     a = anatomy()
+    if severity >= 1:
+        return np.ones(len(a.segments))
     length = np.array(a.axon_cm["sensory"]) + np.array(a.axon_cm["dorsal_column"])
-    lost = np.clip((length - (DC_FRONT[0] - DC_FRONT[1] * severity)) / DC_RAMP, 0.0, 1.0)
-    share = np.where(sec.body >= 0, lost[np.clip(sec.body, 0, len(lost) - 1)], lost.mean())
-    return mask & (_dither_rank(sec) < share)
+    return np.clip((length - (DC_FRONT[0] - DC_FRONT[1] * severity)) / DC_RAMP, 0.0, 1.0)
+
+
+def fibre_shares(pattern: str, params: dict) -> dict[str, np.ndarray] | None:
+    """Shares of fibres lost that depend on the fibre, not on where it lies: {pathway stage: (31,) share per body
+    segment}, multiplying the losses the pattern's masks give those fibres; None when there are none. Combined
+    degeneration's dorsal columns die back by length (`dying_back`)."""
+    if pattern == "posterolateral" and params.get("severity", 1.0) < 1:
+        return {"dorsal_column": dying_back(params["severity"])}
+    return None
 
 
 def _thin_by_length(sec, mask, severity):
@@ -233,7 +216,7 @@ def _thin_by_length(sec, mask, severity):
         return mask
     body = np.where(sec.body >= 0, sec.body, 15) / 30.0
     share = np.clip(severity * (LENGTH_SHARE[0] + (LENGTH_SHARE[1] - LENGTH_SHARE[0]) * body), 0.0, 1.0)
-    return mask & (_dither_rank(sec) < share)
+    return np.minimum(np.asarray(mask, dtype=np.float32), share.astype(np.float32))
 
 
 def _lateral_compression(sec, xs, side, p):
@@ -270,7 +253,7 @@ def _structures(sec, names):
 def _flattened(sec, depth, order, level):
     m = _thin(sec, level, float(np.clip(depth / LEVEL_FULL_DEPTH, 0.0, 1.0)))
     for names, (lo, hi) in order.items():
-        m = m | _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0)))
+        m = _union(m, _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0))))
     return m
 
 
@@ -305,7 +288,7 @@ def _motor_neuron(sec, xs, side, p):
     lo, hi = a.index(_SPHINCTER_CST[0]), a.index(_SPHINCTER_CST[1])
     cst = ((st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])) & ~((sec.body >= lo)
                                                                                           & (sec.body <= hi))
-    return _thin(sec, horn, p["severity"]) | _thin(sec, cst, p["severity"] * p.get("upper", 1.0))
+    return _union(_thin(sec, horn, p["severity"]), _thin(sec, cst, p["severity"] * p.get("upper", 1.0)))
 
 
 def _conus(sec, xs, side, p):

@@ -17,15 +17,17 @@ Which predictions the rule binds (decided per pattern, `lesions.PATTERNS`):
   sensation;
 * the roots in the sac (cauda equina: the worse side's roots from the top down, the other side's lowest roots from
   the midline), one root, the motor patterns (no sensory loss at all) and the normal cord;
-* the diffuse dying-back of combined degeneration without a neuropathy: the share lost grows with each fibre's
-  length, which rises down the body to the feet and falls again at the saddle (rise, plateau, fall).
-
-A length-dependent polyneuropathy is not unimodal along the body: the hands and feet are both far from the cord,
+A length-dependent process is not unimodal along the body: the hands and feet are both far from the cell bodies,
 so once it reaches the fingers it makes a glove and a stocking, two runs with the trunk spared between (from
 memory, standard neurology teaching). It is unimodal along its own axis, the length of each dermatome's axons
-(`data/axons.csv`): the polyneuropathy pattern is counted in that order. Combined degeneration with a neuropathy is
-the union of two predictions the atlas holds apart (the same lesion with `neuropathy` 0, and the polyneuropathy of
-that severity), each counted in its own order; the union is not counted.
+(`data/axons.csv`), and is counted in that order:
+
+* the polyneuropathy pattern, along the peripheral axons (ganglion to skin);
+* combined degeneration (`posterolateral`), whose dorsal columns die back along each fibre's whole length (skin to
+  the medulla), along that length, over the dermatomes whose fibres pass the lesion (those entering below its top);
+* combined degeneration with a neuropathy is the union of two predictions the atlas holds apart (the same lesion
+  with `neuropathy` 0, and the polyneuropathy of that severity), each counted in its own order; the union is not
+  counted.
 """
 from __future__ import annotations
 
@@ -49,11 +51,12 @@ def extra_runs(loss: np.ndarray) -> np.ndarray:
 
 
 @cache
-def axon_order() -> np.ndarray:
-    """The dermatomes ordered by the length of their sensory axons (ganglion to farthest skin; mean over the
-    dermatome's segments), shortest first: the axis of a length-dependent process."""
+def axon_order(central: bool = False) -> np.ndarray:
+    """The dermatomes ordered by the length of their sensory axons (ganglion to farthest skin; with `central`, on
+    to the medulla in the dorsal columns; mean over the dermatome's segments), shortest first: the axis of a
+    length-dependent process."""
     a = anatomy()
-    cm = np.array(a.axon_cm["sensory"])
+    cm = np.array(a.axon_cm["sensory"]) + (np.array(a.axon_cm["dorsal_column"]) if central else 0.0)
     length = [float(np.mean([cm[j] for j in a.dermatome_segments[d]])) for d in a.dermatomes]
     out = np.argsort(length, kind="stable")
     out.flags.writeable = False
@@ -76,9 +79,14 @@ def atlas_stripes(at) -> tuple[np.ndarray, np.ndarray]:
     neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in at.variants])[at.variant]
     polyneuropathy = pattern == "polyneuropathy"
     bound = ~((neuropathy > 0) & ~polyneuropathy)
-    body = extra_runs(loss)
-    along_axons = extra_runs(loss[..., axon_order()])
-    stripes = np.where(polyneuropathy, along_axons, body)
+    stripes = extra_runs(loss)
+    stripes[..., polyneuropathy] = extra_runs(loss[..., polyneuropathy, :][..., axon_order()])
+    a = anatomy()
+    lowest = np.array([max(a.dermatome_segments[d]) for d in a.dermatomes])
+    order = axon_order(central=True)
+    for i in np.flatnonzero((pattern == "posterolateral") & bound):
+        passing = order[lowest[order] >= at.top[i]]  # dermatomes whose fibres run in the cord at the lesion's top
+        stripes[..., i] = extra_runs(loss[..., i, passing])
     return np.where(bound, stripes, 0), bound
 
 

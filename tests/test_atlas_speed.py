@@ -24,18 +24,11 @@ from cordmap.forward import (
     fibre_losses_from_fractions,
     read_columns,
     readout,
+    scale_fibres,
     with_neuropathy,
 )
-from cordmap.lesions import PATTERNS, draw_mask
+from cordmap.lesions import PATTERNS, draw_mask, fibre_shares
 from cordmap.model import sections
-
-
-def _fraction_lost(sec, mask):
-    """`Section.fraction_lost` of one boolean mask as first written: one bincount."""
-    flat = sec.region.ravel()
-    out = np.bincount(flat[mask.ravel() & (flat >= 0)], minlength=len(sec.regions)).astype(np.float32)[None]
-    out /= sec.region_pixels
-    return out
 
 
 def _candidates(vs):
@@ -87,10 +80,11 @@ def reference_build(phase, chunk=4096):
     vs = atlas_mod.variants()
     secs = sections()
     masks = np.stack([np.stack([draw_mask(v.pattern, v.side, dict(v.params), sec) for sec in secs]) for v in vs])
-    fractions = [np.concatenate([_fraction_lost(sec, m) for m in masks[:, s]]) for s, sec in enumerate(secs)]
-    per_seg = fibre_losses_from_fractions(fractions)
+    fractions = [np.stack([sec.fraction_lost(m) for m in masks[:, s]]) for s, sec in enumerate(secs)]
+    per_seg = np.stack([scale_fibres(p[None], fibre_shares(v.pattern, dict(v.params)))[0]
+                        for p, v in zip(fibre_losses_from_fractions(fractions), vs)])
     cord = np.hypot(secs[0].x, secs[0].y) <= 1.0
-    area_seg = (masks & cord).sum(axis=(2, 3)) / cord.sum()
+    area_seg = (masks * cord).sum(axis=(2, 3)) / cord.sum()
     var, top, bottom = _candidates(vs)
     cum = np.concatenate([np.zeros((len(vs), 1)), np.cumsum(area_seg, axis=1)], axis=1)
     area = ((cum[var, bottom + 1] - cum[var, top]) / (bottom - top + 1)).astype(np.float32)

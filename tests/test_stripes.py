@@ -15,9 +15,10 @@ from cordmap import atlas as atlas_mod
 from cordmap import stripes
 from cordmap.anatomy import anatomy
 
-# Striped exams in the chronic atlas when this test came in (sensory grades; the phase does not change them).
+# Striped exams in the chronic atlas (sensory grades; the phase does not change them): 4983 when this test came in,
+# 41 after layers were laid out below the pixel, thinning became an exact share and the dying back a share per fibre.
 # Lower it when the model improves; never raise it.
-STRIPED_CEILING = 4983
+STRIPED_CEILING = 41
 
 
 def test_extra_runs_counts_each_grade_or_worse_set():
@@ -60,8 +61,9 @@ def test_no_more_stripes_than_when_counted(counted):
     assert n <= STRIPED_CEILING, f"{n} striped exams in the atlas, more than the {STRIPED_CEILING} counted before"
 
 
-@pytest.mark.xfail(strict=True, reason="issue 11 bar not met yet: exams in the atlas still stripe (thinned shares "
-                   "rounded per layer; dorsal-column layers narrower than a pixel)")
+@pytest.mark.xfail(strict=True, reason="issue 11 bar not met yet: a few compressions still stripe (the spinothalamic "
+                   "layers' outline against a mass from the side; a front or back compression's share of a tract "
+                   "misses the layers of pixels the segment no longer carries)")
 def test_no_striped_exam_in_the_atlas(counted):
     at, s, _ = counted
     bad = np.flatnonzero(s.sum(axis=(0, 1)) > 0)
