@@ -26,6 +26,7 @@ Lamination (``lamination.csv``):
 """
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass
 from functools import cache
 
@@ -263,7 +264,7 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
                 (lst, _stt_coord, bodies,
                  "lateral_spinothalamic", SHELL_POINTS),
                 (lc, None, bodies, "lateral_corticospinal", SHELL_POINTS)):
-            soft.append((*_sub_laminate(sel, x, y, coord, order, points), S[name]))
+            soft.append((*_sub_laminate_cached(name, sel, x, y, coord, order, points), S[name]))
     gone = (((st == S["gracilis"]) | (st == S["lateral_corticospinal"])) & (body < s)) | \
            ((st == S["lateral_spinothalamic"]) & (body <= s))
     st[gone] = S["other_white"]
@@ -334,6 +335,20 @@ def _stt_coord(x, y):
 # holds points in every row it crosses.
 DC_POINTS = (16, 2)
 SHELL_POINTS = (4, 4)
+
+
+_SUB_LAMINATED: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}  # pure: a tract's outline -> its layout
+
+
+def _sub_laminate_cached(name, sel, x, y, coord, bodies, points):
+    """`_sub_laminate`, once per tract outline: segments whose tract has the same outline share its layout."""
+    key = (name, sel.shape, hashlib.sha256(np.packbits(sel)).digest(), tuple(bodies), points)
+    hit = _SUB_LAMINATED.get(key)
+    if hit is None:
+        hit = _SUB_LAMINATED[key] = _sub_laminate(sel, x, y, coord, bodies, points)
+        for arr in hit:
+            arr.flags.writeable = False
+    return hit
 
 
 def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: list[int],
