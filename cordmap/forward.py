@@ -114,13 +114,31 @@ def fibre_losses_per_segment(masks, resolution: int = DEFAULT_RESOLUTION) -> np.
     """Fibre-feature losses at each segment: masks is (k, n, n) or (k, 31, n, n) -> (k, 31, features)."""
     masks = np.asarray(masks)
     secs = sections(resolution)
+    return fibre_losses_from_fractions([sec.fraction_lost(masks[:, s] if masks.ndim == 4 else masks)
+                                        for s, sec in enumerate(secs)], resolution)
+
+
+def fibre_losses_from_fractions(fractions, resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
+    """Per segment s, the (k, regions of s) destroyed fractions (`Section.fraction_lost`) -> (k, 31, features)."""
     W = region_to_feature(resolution)
-    k = masks.shape[0]
+    k = fractions[0].shape[0]
     out = np.zeros((k, N_SEG, len(feature_index())), dtype=np.float32)
-    for s, sec in enumerate(secs):
-        m = masks[:, s] if masks.ndim == 4 else masks
-        out[:, s] = sec.fraction_lost(m) @ W[s]
-    return np.clip(out, 0.0, 1.0)
+    for s, frac in enumerate(fractions):
+        out[:, s] = frac @ W[s]
+    return np.clip(out, 0.0, 1.0, out=out)
+
+
+def scale_fibres(per_segment: np.ndarray, shares: dict[str, np.ndarray] | None) -> np.ndarray:
+    """(k, 31, features) losses with the features of each named stage multiplied by a share per body segment
+    (`lesions.fibre_shares`: a loss that picks fibres by their length, not their place); `per_segment` if None."""
+    if not shares:
+        return per_segment
+    out = per_segment.copy()
+    for stage, share in shares.items():
+        for (st, _side, j), col in feature_index().items():
+            if st == stage:
+                out[..., col] *= np.float32(share[j])
+    return out
 
 
 # Long tracts: the same fibres pass every segment of a lesion's extent, and a named pattern has the same shape at
@@ -156,13 +174,18 @@ def extent_sums(per_segment: np.ndarray, resolution: int = DEFAULT_RESOLUTION) -
 
 
 def extent_losses(cum: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray,
-                  resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:
-    """Losses over top..bottom from `extent_sums`, one row per candidate (see LONG_TRACTS)."""
-    total = cum[mask_id, bottom + 1] - cum[mask_id, top]
+                  resolution: int = DEFAULT_RESOLUTION, columns: np.ndarray | None = None) -> np.ndarray:
+    """Losses over top..bottom from `extent_sums`, one row per candidate (see LONG_TRACTS). With `columns`, `cum`
+    holds only those feature columns (in that order), and so does the result."""
+    total = cum[mask_id, bottom + 1]
+    total -= cum[mask_id, top]
     _, pres, long = _presence(resolution)
-    n = pres[bottom + 1] - pres[top]
-    total = np.where(long, total / np.maximum(n, _EPS), total)
-    return (-np.expm1(total)).astype(np.float32)
+    if columns is not None:
+        pres, long = pres[:, columns], long[columns]
+    n = pres[bottom + 1]
+    n -= pres[top]
+    np.divide(total, np.maximum(n, _EPS, out=n), out=total, where=long)
+    return np.negative(np.expm1(total, out=total), out=total).astype(np.float32)
 
 
 def along_extent(per_segment: np.ndarray, mask_id: np.ndarray, top: np.ndarray, bottom: np.ndarray) -> np.ndarray:
@@ -509,6 +532,27 @@ def _tables():
                                                             ("ventral_root", "same")),
             "limb": limb, "limb_cols": limb.columns(*_UMN_STAGES, ("ventral_horn", "same"), ("ventral_root", "same")),
             "reflex_names": names, "arc": arc, "arc_cols": arc.columns(*_ARC_STAGES, *_UMN_STAGES)}
+
+
+@cache
+def read_columns() -> np.ndarray:
+    """The feature columns `readout` reads, in order: found by running it once on an array that records every
+    column it is indexed by. The others cannot change a finding, so the atlas' build leaves them at 0
+    (tests/test_atlas_speed.py checks that readout ignores them, bit for bit)."""
+    seen: set[int] = set()
+
+    class _Recording(np.ndarray):
+        def __getitem__(self, key):
+            if isinstance(key, tuple) and len(key) == 2:
+                seen.update(np.asarray(key[1]).ravel().tolist())
+            else:
+                raise AssertionError("readout reads L only as L[:, columns]")
+            return np.asarray(self)[key]
+
+    readout(np.zeros((1, len(feature_index())), dtype=np.float32).view(_Recording))
+    out = np.array(sorted(seen), dtype=np.intp)
+    out.flags.writeable = False
+    return out
 
 
 def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:

@@ -83,48 +83,22 @@ def _white(sec):
     return _memo("white", sec, lambda s: np.isin(s.structure, _WHITE))
 
 
-def _hash01(i: np.ndarray, k: np.ndarray) -> np.ndarray:
-    """A fixed pseudo-random number in [0, 1) for each integer pair (i, k): a 64-bit mix, the same on every machine."""
-    with np.errstate(over="ignore"):
-        h = i.astype(np.uint64) * np.uint64(0x9E3779B97F4A7C15) ^ k.astype(np.uint64) * np.uint64(0xC2B2AE3D27D4EB4F)
-        h ^= h >> np.uint64(31)
-        h *= np.uint64(0xBF58476D1CE4E5B9)
-        h ^= h >> np.uint64(29)
-        h *= np.uint64(0x94D049BB133111EB)
-        h ^= h >> np.uint64(32)
-    return (h >> np.uint64(11)).astype(np.float64) / float(1 << 53)
-
-
-def _make_rank(sec) -> np.ndarray:
-    n = sec.x.shape[0]
-    j = np.arange(n)
-    mirror = np.abs(2 * j - (n - 1)) // 2  # the same for a column and its mirror image (the grid is symmetric)
-    rows, cols = np.meshgrid(j, mirror, indexing="ij")
-    field = _hash01(rows, cols)
-    region = sec.region
-    inside = region >= 0
-    key = region[inside] * 2.0 + field[inside]  # sorts by region, then by the field within the region
-    ordered = np.sort(key)
-    lo = np.searchsorted(ordered, key, "left")
-    hi = np.searchsorted(ordered, key, "right")  # mirror twins in a midline region tie: they share one rank
-    start = np.searchsorted(ordered, region[inside] * 2.0, "left")
-    out = np.ones(region.shape)
-    out[inside] = ((lo + hi) / 2 - start) / sec.region_pixels[region[inside]]
-    return out
-
-
-def _dither_rank(sec) -> np.ndarray:
-    """Per pixel, its rank in [0, 1) within its region under a fixed pseudo-random order over (|x|, y).
-
-    Keeping the pixels with rank < severity thins a mask evenly: every region (one structure, side and body
-    segment) keeps the share `severity` of its pixels to within one pixel, the thinned masks are nested (a larger
-    severity is a superset) and mirror-symmetric. It models diffuse, partial degeneration of a territory.
-    """
-    return _memo("rank", sec, _make_rank)
-
-
 def _thin(sec, mask, severity):
-    return mask if severity >= 1 else mask & (_dither_rank(sec) < severity)
+    """`mask` with the share `severity` of each pixel destroyed: an even, partial loss of a territory (diffuse
+    degeneration, an incomplete lesion). A thinned mask is a weight per pixel (float32): every region it reaches loses
+    exactly that share, whatever its size, so a tract's layers lose the same share all along the body (a pixel dither
+    rounded each layer's share to its own pixel count: a stripe where the share sat near a grade's bound). Thinning
+    a thinned mask keeps the smaller share (`np.minimum`): nested shares of one territory, as a dither's were."""
+    if severity >= 1:
+        return mask
+    return np.minimum(np.asarray(mask, dtype=np.float32), np.float32(max(severity, 0.0)))
+
+
+def _union(a, b):
+    """Pixels lost to either of two masks: `|` of two boolean masks, the larger share of two weighted ones."""
+    if a.dtype == bool and b.dtype == bool:
+        return a | b
+    return np.maximum(np.asarray(a, dtype=np.float32), np.asarray(b, dtype=np.float32))
 
 
 def _roots(sec):
@@ -161,7 +135,7 @@ def _central(sec, xs, side, p):
     # than the arms.
     columns = p.get("columns", 0.0)
     if columns > 0:
-        core = core | _thin(sec, sec.structure == S["lateral_corticospinal"], columns)
+        core = _union(core, _thin(sec, sec.structure == S["lateral_corticospinal"], columns))
     return core
 
 
@@ -188,15 +162,22 @@ def _posterolateral(sec, xs, side, p):
     # brisk arm jerks in some, severe spastic weakness a late one (from memory).
     # The longest fibres go first (a length-dependent, dying-back degeneration: the legs before the arms, the toes
     # before the ankles; from memory, standard neurology teaching on B12 deficiency). In the dorsal columns a
-    # dying-back front (`_dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
+    # dying-back front (`dying_back`) on each body segment's whole sensory axon (limb nerve plus dorsal column,
     # `data/axons.csv`); in the lateral columns a share growing with the body segment, from LENGTH_SHARE[0] x the
     # share at C1 to LENGTH_SHARE[1] x at S5 (`_thin_by_length`).
+    # The dorsal columns are drawn whole: which of their fibres die back is a matter of each fibre's length, not of
+    # where it lies, so `fibre_shares` gives each body segment's share lost (applied to the fibres, not the pixels).
+    dc, lateral = _memo("posterolateral", sec, _posterolateral_sectors)
+    lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
+    return _union(dc, _thin_by_length(sec, lateral, lateral_share))
+
+
+def _posterolateral_sectors(sec):
+    """(dorsal columns, dorsolateral funiculi): the white matter of each sector (kept per section, read-only)."""
     white = _white(sec)
     dc = white & _dorsal_columns(sec)
     phi = np.degrees(np.arctan2(sec.y, np.abs(sec.x)))
-    lateral = white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
-    lateral_share = 1.0 if p["severity"] >= 1 else p.get("lateral", LATERAL_SHARE) * p["severity"]
-    return _dying_back(sec, dc, p["severity"]) | _thin_by_length(sec, lateral, lateral_share)
+    return dc, white & _cord(sec) & (phi >= -2) & (phi < 64) & ~dc
 
 
 LENGTH_SHARE = (0.55, 1.45)
@@ -211,16 +192,23 @@ DC_FRONT = (150.0, 120.0)
 DC_RAMP = 30.0
 
 
-def _dying_back(sec, mask, severity):
-    """`mask` thinned by a length-dependent front: each laminated pixel's share lost grows with the length of its
-    body segment's whole sensory axon (other pixels: the share at the mean length)."""
-    if severity >= 1:
-        return mask
+def dying_back(severity: float) -> np.ndarray:
+    """(31,) the share of each body segment's dorsal-column fibres lost to a length-dependent front of `severity`:
+    grows with the length of the segment's whole sensory axon (ganglion to skin plus dorsal column to the medulla)."""
     a = anatomy()
+    if severity >= 1:
+        return np.ones(len(a.segments))
     length = np.array(a.axon_cm["sensory"]) + np.array(a.axon_cm["dorsal_column"])
-    lost = np.clip((length - (DC_FRONT[0] - DC_FRONT[1] * severity)) / DC_RAMP, 0.0, 1.0)
-    share = np.where(sec.body >= 0, lost[np.clip(sec.body, 0, len(lost) - 1)], lost.mean())
-    return mask & (_dither_rank(sec) < share)
+    return np.clip((length - (DC_FRONT[0] - DC_FRONT[1] * severity)) / DC_RAMP, 0.0, 1.0)
+
+
+def fibre_shares(pattern: str, params: dict) -> dict[str, np.ndarray] | None:
+    """Shares of fibres lost that depend on the fibre, not on where it lies: {pathway stage: (31,) share per body
+    segment}, multiplying the losses the pattern's masks give those fibres; None when there are none. Combined
+    degeneration's dorsal columns die back by length (`dying_back`)."""
+    if pattern == "posterolateral" and params.get("severity", 1.0) < 1:
+        return {"dorsal_column": dying_back(params["severity"])}
+    return None
 
 
 def _thin_by_length(sec, mask, severity):
@@ -229,7 +217,7 @@ def _thin_by_length(sec, mask, severity):
         return mask
     body = np.where(sec.body >= 0, sec.body, 15) / 30.0
     share = np.clip(severity * (LENGTH_SHARE[0] + (LENGTH_SHARE[1] - LENGTH_SHARE[0]) * body), 0.0, 1.0)
-    return mask & (_dither_rank(sec) < share)
+    return np.minimum(np.asarray(mask, dtype=np.float32), share.astype(np.float32))
 
 
 def _lateral_compression(sec, xs, side, p):
@@ -259,13 +247,14 @@ LEVEL_FULL_DEPTH = 0.35  # the gray matter and roots at the level are squeezed i
 
 
 def _structures(sec, names):
-    return np.isin(sec.structure, [S[n] for n in names])
+    """Pixels of any of the named structures (kept per section: read-only, never changed in place)."""
+    return _memo(("structures", names), sec, lambda s: np.isin(s.structure, [S[n] for n in names]))
 
 
 def _flattened(sec, depth, order, level):
     m = _thin(sec, level, float(np.clip(depth / LEVEL_FULL_DEPTH, 0.0, 1.0)))
     for names, (lo, hi) in order.items():
-        m |= _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0)))
+        m = _union(m, _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0))))
     return m
 
 
@@ -300,7 +289,7 @@ def _motor_neuron(sec, xs, side, p):
     lo, hi = a.index(_SPHINCTER_CST[0]), a.index(_SPHINCTER_CST[1])
     cst = ((st == S["lateral_corticospinal"]) | (st == S["anterior_corticospinal"])) & ~((sec.body >= lo)
                                                                                           & (sec.body <= hi))
-    return _thin(sec, horn, p["severity"]) | _thin(sec, cst, p["severity"] * p.get("upper", 1.0))
+    return _union(_thin(sec, horn, p["severity"]), _thin(sec, cst, p["severity"] * p.get("upper", 1.0)))
 
 
 def _conus(sec, xs, side, p):
@@ -328,7 +317,7 @@ _SAC_FIRST, _SAC_LAST = "L1", "Co1"
 _SAC_WIDTH = 3.0  # a root's width in root spacings
 
 
-def _sac_share(index: int, medial: float) -> float:
+def sac_share(index: int, medial: float) -> float:
     """The share of segment `index`'s roots lying within `medial` (a share of one side of the sac) of the midline."""
     a = anatomy()
     first, last = a.index(_SAC_FIRST), a.index(_SAC_LAST)
@@ -343,7 +332,7 @@ def _sac_share(index: int, medial: float) -> float:
 def _cauda_equina(sec, xs, side, p):
     # The worse side loses all its roots; the other side its roots' outer share `contra` (a mass pressing from the
     # side) and, with `medial` > 0 (a central disc reaching across the midline), its innermost, lowest roots.
-    contra = max(p["contra"], _sac_share(sec.index, p.get("medial", 0.0)))
+    contra = max(p["contra"], sac_share(sec.index, p.get("medial", 0.0)))
     return _root_part(sec, xs > 0, 1.0) | _root_part(sec, xs < 0, contra)
 
 
@@ -459,10 +448,12 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
              Param("upper", 1.0, (0.4, 0.7, 1.0), 0.1, 1.0,
                    "the corticospinal tracts' share of `severity` (0.7: upper motor neuron signs with little "
                    "corticospinal weakness)")), diffuse=True),
-    Pattern("conus", "the conus medullaris with its roots (sacral cord)", ("both",), _conus, (_INCOMPLETE,),
+    Pattern("conus", "the conus medullaris with its roots (the sacral cord behind T12-L1): symmetric, the sphincters "
+            "early", ("both",), _conus, (_INCOMPLETE,),
             tops=("L5", "S4"),
             bottom_fixed="Co1"),
-    Pattern("cauda_equina", "the lumbosacral roots below the conus, worse on one side", ("left", "right"),
+    Pattern("cauda_equina", "the lumbosacral roots in the sac below the conus, from the highest caught down (named "
+            "by the disc or canal level where it is caught), worse on one side or central", ("left", "right"),
             _cauda_equina,
             (Param("contra", 0.5, (0.0, 0.5, 1.0), 0.0, 1.0, "share of the other side's roots involved"),
              Param("medial", 0.0, (0.0, 0.33), 0.0, 1.0,
@@ -583,14 +574,36 @@ class Lesion:
         return describe(self)
 
 
+def _shape_params(pat: Pattern, params: dict) -> dict:
+    """What a pattern's draw function sees: an incomplete pattern draws its shape without `severity` (the share
+    destroyed thins that shape afterwards), so one shape serves every severity."""
+    return {k: v for k, v in params.items() if k != "severity"} if _INCOMPLETE in pat.params else params
+
+
 def draw_mask(pattern: str, side: str, params: dict, sec: Section) -> np.ndarray:
     """The boolean mask of a named pattern on one section."""
     xs = sec.x if side != "left" else -sec.x
     pat = PATTERNS[pattern]
-    mask = pat.draw(sec, xs, side, params)
+    mask = pat.draw(sec, xs, side, _shape_params(pat, params))
     if _INCOMPLETE in pat.params:
         mask = _thin(sec, mask, params.get("severity", 1.0))
     return mask
+
+
+def draw_masks(variants, sec: Section):
+    """`draw_mask` of many (pattern, side, params) on one section, in order: an incomplete pattern's shape is drawn
+    once for all its severities (the atlas' build)."""
+    shapes: dict[tuple, np.ndarray] = {}
+    for pattern, side, params in variants:
+        pat = PATTERNS[pattern]
+        if _INCOMPLETE not in pat.params:
+            yield draw_mask(pattern, side, params, sec)
+            continue
+        shape = _shape_params(pat, params)
+        key = (pattern, side, tuple(sorted(shape.items())))
+        if key not in shapes:
+            shapes[key] = pat.draw(sec, sec.x if side != "left" else -sec.x, side, shape)
+        yield _thin(sec, shapes[key], params.get("severity", 1.0))
 
 
 def lesion_masks(lesion: Lesion, secs) -> np.ndarray:

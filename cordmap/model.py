@@ -10,16 +10,23 @@ body segment whose fibres lie there, for gray matter and roots the segment itsel
 gives the destroyed fraction of every region; `cordmap.forward` turns region losses into fibre losses along the
 lesion's extent and then into bedside findings.
 
+A laminated tract's layers are thinner than a pixel (29 body segments across a dorsal column a few pixels wide), so
+they are laid out over several points in each pixel, and a pixel of such a tract belongs to every layer its points
+fall in, each with its share of the pixel (`Section.by_region` / `region_weights`): a mask that covers the pixel
+destroys that share of each layer. Counting whole pixels by their centre gave layers made of scattered pixels, in
+the wrong order along the tract's edge, and a loss that came and went down the body (stripes, issue 11).
+
 Lamination (``lamination.csv``):
 * dorsal columns: each entering segment adds its fibres laterally, so the lowest body segments lie medial;
   fasciculus cuneatus (T6 and above) lateral to gracilis (T7 and below);
-* lateral spinothalamic tract: sacral fibres outermost and dorsal, cervical fibres deepest and ventral;
+* lateral spinothalamic tract: sacral fibres outermost and dorsal, cervical fibres deepest and ventral (`STT_BANDS`);
 * lateral corticospinal tract: leg fibres outermost, arm fibres deep. This is the classic teaching; Levi and
   Schwab (J Neurosurg Spine 2022;36:653) find no such somatotopy in primates, so nothing in the ranker leans on
   it alone (the central-cord picture also comes from the ventral horns and the crossing fibres).
 """
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass
 from functools import cache
 
@@ -79,25 +86,24 @@ class Section:
     body: np.ndarray  # body segment index for laminated tracts, own segment for gray and roots, -1 otherwise
     region: np.ndarray  # region id per pixel, -1 outside
     regions: tuple[tuple[int, int, int], ...]  # region id -> (structure, side, body)
-    region_pixels: np.ndarray  # pixel count per region
+    region_pixels: np.ndarray  # (float32) area of each region in pixels: the sum of its memberships' weights
+    by_region: np.ndarray  # flat pixel index of every (pixel, region) membership, region by region
+    region_weights: np.ndarray  # (float32) the share of that pixel's area in that region (1 outside laminated tracts)
+    region_starts: np.ndarray  # where each region begins in `by_region`
 
     def fraction_lost(self, mask: np.ndarray) -> np.ndarray:
         """Destroyed fraction of every region for one mask (n, n) or a stack of masks (k, n, n).
 
-        A boolean mask is counted (the same numbers as summing its pixels as weights, about ten times faster);
-        any other mask is a weight per pixel.
+        A boolean mask counts a pixel whole; any other mask is a weight per pixel. A pixel of a laminated tract
+        belongs to the layers its area overlaps (`region_weights`), so a layer narrower than a pixel is counted
+        where it lies rather than where a pixel's centre falls.
         """
-        flat = self.region.ravel()
-        inside = flat >= 0
-        counted = np.asarray(mask).dtype == bool
-        m = np.asarray(mask, dtype=bool if counted else np.float32).reshape(-1, self.region.size)
-        out = np.zeros((m.shape[0], len(self.regions)), dtype=np.float32)
-        ids = None if counted else flat[inside]
-        for k in range(m.shape[0]):
-            if counted:
-                out[k] = np.bincount(flat[m[k] & inside], minlength=len(self.regions))
-            else:
-                out[k] = np.bincount(ids, weights=m[k, inside], minlength=len(self.regions))
+        m = np.asarray(mask)
+        m = m.reshape(-1, self.region.size)
+        gathered = m[:, self.by_region]
+        weighted = gathered * self.region_weights if gathered.dtype == bool else \
+            gathered.astype(np.float32) * self.region_weights
+        out = np.add.reduceat(weighted, self.region_starts, axis=1, dtype=np.float32)
         out /= self.region_pixels
         return out if np.ndim(mask) == 3 else out[0]
 
@@ -137,15 +143,19 @@ def _intermixed(sel: np.ndarray, coord: np.ndarray, mix: float) -> np.ndarray:
     q[np.argsort(coord.ravel()[idx], kind="stable")] = (np.arange(len(idx)) + 0.5) / len(idx)
     n = coord.shape[1]
     rows, cols = np.divmod(idx, n)
+    out.ravel()[idx] = (1 - mix) * q + mix * _pixel_noise(rows, cols, n)
+    return out
+
+
+def _pixel_noise(rows: np.ndarray, cols: np.ndarray, n: int) -> np.ndarray:
+    """A fixed pseudo-random number in [0, 1) per pixel, the same for a pixel and its mirror image."""
     mirror = np.abs(2 * cols - (n - 1)) // 2
     h = rows.astype(np.uint64) * np.uint64(0x9E3779B97F4A7C15)
     h += mirror.astype(np.uint64) * np.uint64(0xBF58476D1CE4E5B9)
     h ^= h >> np.uint64(31)
     h *= np.uint64(0x94D049BB133111EB)
     h ^= h >> np.uint64(29)
-    noise = (h >> np.uint64(11)).astype(np.float64) / float(1 << 53)
-    out.ravel()[idx] = (1 - mix) * q + mix * noise
-    return out
+    return (h >> np.uint64(11)).astype(np.float64) / float(1 << 53)
 
 
 def _disk(x, y, cx, cy, rx, ry=None):
@@ -236,12 +246,25 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
     # matter shrinks caudally.
     bodies = list(range(1, 30))  # C2..S5
     u = ax / np.maximum(dorsal_horn_axis(y), 1e-3)
+    soft = []  # (pixel indices, structure, body) of each laminated tract's sub-pixel points, before `gone`
     for sd in (0, 1):
         on = side == sd
-        _laminate(on & (st == S["gracilis"]), u, bodies[::-1], body)  # medial = lowest
-        _laminate(on & (st == S["lateral_spinothalamic"]), r + 0.002 * phi, bodies, body)  # outer/dorsal = sacral
+        dc, lst = on & (st == S["gracilis"]), on & (st == S["lateral_spinothalamic"])
         lc = on & (st == S["lateral_corticospinal"])
+        _laminate(dc, u, bodies[::-1], body)  # medial = lowest
+        _laminate(lst, _stt_coord(x, y), bodies, body)  # lateral and dorsal = sacral
         _laminate(lc, _intermixed(lc, r, CST_INTERMIX), bodies, body)  # outer = leg, in part
+        # The same layers laid out over several points in each pixel: a pixel's area is shared among the layers
+        # it overlaps (a layer of the dorsal columns or the spinothalamic tract is narrower than a pixel).
+        # The dorsal columns' layers are thin medial-to-lateral sheets (the sacral ones thinnest, at the septum):
+        # many points across a pixel, few along it; the other tracts' layers are shells, points both ways.
+        for sel, coord, order, name, points in (
+                (dc, lambda px, py: np.abs(px) / np.maximum(dorsal_horn_axis(py), 1e-3), bodies[::-1], "gracilis",
+                 DC_POINTS),
+                (lst, _stt_coord, bodies,
+                 "lateral_spinothalamic", SHELL_POINTS),
+                (lc, None, bodies, "lateral_corticospinal", SHELL_POINTS)):
+            soft.append((*_sub_laminate_cached(name, sel, x, y, coord, order, points), S[name]))
     gone = (((st == S["gracilis"]) | (st == S["lateral_corticospinal"])) & (body < s)) | \
            ((st == S["lateral_spinothalamic"]) & (body <= s))
     st[gone] = S["other_white"]
@@ -252,20 +275,126 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
                  "clarke", "entry_zone", "dorsal_root", "ventral_root", "anterior_commissure"):
         body[st == S[name]] = s
 
-    # regions: unique (structure, side, body)
-    key = (st.astype(np.int64) * 3 + (side.astype(np.int64) + 1)) * 64 + (body.astype(np.int64) + 2)
+    # regions: unique (structure, side, body), of the pixels and of the laminated tracts' sub-pixel points
+    def keys(structure, sd, b):
+        return (structure.astype(np.int64) * 3 + (sd.astype(np.int64) + 1)) * 64 + (b.astype(np.int64) + 2)
+
+    key = keys(st, side, body)
     key[st == 0] = -1
-    uniq, inv = np.unique(key[key >= 0], return_inverse=True)
-    region = np.full(key.shape, -1, dtype=np.int32)
-    region[key >= 0] = inv
+    flat_key = key.ravel()
+    laminated = np.zeros(key.size, dtype=bool)
+    pix, sub_keys = [np.flatnonzero(flat_key >= 0)], []
+    t6 = a.index("T6")
+    for idx, b, structure in soft:
+        laminated[idx] = True
+        b = b.astype(np.int64)
+        sub_st = np.full(b.shape, structure, dtype=np.int64)
+        gone_sub = (b <= s) if structure == S["lateral_spinothalamic"] else (b < s)
+        sub_st[gone_sub] = S["other_white"]
+        b = np.where(gone_sub, -1, b)
+        if structure == S["gracilis"]:
+            sub_st[(sub_st == S["gracilis"]) & (b <= t6)] = S["cuneatus"]
+        sub_keys.append((np.repeat(idx, b.shape[1]), keys(sub_st, side.ravel()[idx][:, None] + 0 * b, b).ravel(),
+                         1.0 / max(b.shape[1], 1)))
+    plain = pix[0][~laminated[pix[0]]]
+    member_px = np.concatenate([plain, *(p for p, _, _ in sub_keys)])
+    member_key = np.concatenate([flat_key[plain], *(k for _, k, _ in sub_keys)])
+    member_w = np.concatenate([np.ones(len(plain)), *(np.full(len(k), w) for _, k, w in sub_keys)])
+    uniq = np.unique(np.concatenate([flat_key[flat_key >= 0], member_key]))
+    region = np.full(key.size, -1, dtype=np.int32)
+    region[flat_key >= 0] = np.searchsorted(uniq, flat_key[flat_key >= 0])
+    region = region.reshape(key.shape)
     regions = tuple((int(k // 64 // 3), int(k // 64 % 3) - 1, int(k % 64) - 2) for k in uniq)
-    counts = np.bincount(inv, minlength=len(uniq)).astype(np.float32)
-    return Section(a.segments[s], s, x, y, st, side, body, region, regions, counts)
+    # one membership per (pixel, region): its sub-pixel points summed, as a share of the pixel
+    pair = np.searchsorted(uniq, member_key) * np.int64(key.size) + member_px
+    pairs, where = np.unique(pair, return_inverse=True)
+    weight = np.bincount(where, weights=member_w).astype(np.float32)
+    member_region, by_region = np.divmod(pairs, np.int64(key.size))  # sorted by region, then pixel
+    starts = np.searchsorted(member_region, np.arange(len(uniq)))  # every region has a member: strictly rising
+    counts = np.add.reduceat(weight, starts, dtype=np.float32)
+    return Section(a.segments[s], s, x, y, st, side, body, region, regions, counts, by_region, weight, starts)
+
+
+# The lateral spinothalamic tract's layers: sacral fibres lateral and dorsal, cervical medial and ventral (the
+# lamination table). Laid out by a blend of two coordinates: shells around the centre (distance from it, dorsal
+# counting as outer), and straight bands across the tract (|x| + STT_TILT x y: further out and further back = lower
+# in the body). Shells alone put a cervical layer beside the ventral horn's lateral tip, where a mass pressing from
+# the side reached it before the thoracic layers outside it; bands alone cut across a central lesion's outline. The
+# share STT_BANDS of the bands: judgement, the one of 0, 0.15, 0.25, 0.35, 0.5 and 0.75 with the fewest striped
+# exams over the atlas (`cordmap.stripes`).
+STT_TILT = 0.3
+STT_BANDS = 0.35
+
+
+def _stt_coord(x, y):
+    return STT_BANDS * (np.abs(x) + STT_TILT * y) + (1 - STT_BANDS) * (np.hypot(x, y) + 0.002 * np.degrees(
+        np.arctan2(y, np.abs(x))))
+
+# Points per pixel (across x, along y) where the laminated tracts' layers are laid out: judgement, fine enough that
+# the thinnest layer (a sacral sheet of the dorsal columns, about a fifth of a pixel wide near the grey commissure)
+# holds points in every row it crosses.
+DC_POINTS = (16, 2)
+SHELL_POINTS = (4, 4)
+
+
+_SUB_LAMINATED: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}  # pure: a tract's outline -> its layout
+
+
+def _sub_laminate_cached(name, sel, x, y, coord, bodies, points):
+    """`_sub_laminate`, once per tract outline: segments whose tract has the same outline share its layout."""
+    key = (name, sel.shape, hashlib.sha256(np.packbits(sel)).digest(), tuple(bodies), points)
+    hit = _SUB_LAMINATED.get(key)
+    if hit is None:
+        hit = _SUB_LAMINATED[key] = _sub_laminate(sel, x, y, coord, bodies, points)
+        for arr in hit:
+            arr.flags.writeable = False
+    return hit
+
+
+def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: list[int],
+                  points: tuple[int, int]):
+    """The body segment of each of `points` (nx x ny) points in every pixel of `sel`, layers by the quantile of
+    `coord` (x, y) over all the points (each body segment's share in proportion to its fibre weight), as
+    `_laminate` lays out whole pixels. `coord` None: the corticospinal blend of depth and a fixed field
+    (`_intermixed`). Returns (pixel indices (P,), bodies (P, nx x ny))."""
+    idx = np.flatnonzero(sel.ravel())
+    n = x.shape[1]
+    step = 2 * EXTENT / n
+    nx, ny = points
+    offx = (np.arange(nx) - (nx - 1) / 2) * step / nx
+    offy = (np.arange(ny) - (ny - 1) / 2) * step / ny
+    ox, oy = (a.ravel() for a in np.meshgrid(offx, offy))
+    px = x.ravel()[idx][:, None] + ox[None, :]
+    py = y.ravel()[idx][:, None] + oy[None, :]
+    if coord is None:
+        r = np.hypot(px, py)
+        q = np.empty(r.size)
+        q[np.argsort(r.ravel(), kind="stable")] = (np.arange(r.size) + 0.5) / r.size
+        rows, cols = np.divmod(idx, n)
+        c = (1 - CST_INTERMIX) * q.reshape(r.shape) + CST_INTERMIX * _pixel_noise(rows, cols, n)[:, None]
+    else:
+        c = coord(px, py)
+    out = np.full(c.shape, -1, dtype=np.int64)
+    if not len(idx):
+        return idx, out
+    order = np.argsort(c.ravel(), kind="stable")
+    w = np.array([fibre_weight(j) for j in bodies])
+    edges = np.round(np.cumsum(w) / w.sum() * len(order)).astype(int)
+    flat = out.reshape(-1)
+    start = 0
+    for j, end in zip(bodies, edges):
+        flat[order[start:max(end, start + 1)]] = j
+        start = max(end, start + 1)
+    return idx, out
+
+
+def sections(resolution: int = DEFAULT_RESOLUTION) -> tuple[Section, ...]:
+    """The sections of all 31 segments (built once per resolution, however the resolution is passed)."""
+    return _sections(int(resolution))
 
 
 @cache
-def sections(resolution: int = DEFAULT_RESOLUTION) -> tuple[Section, ...]:
-    """The sections of all 31 segments (built once per resolution)."""
+def _sections(resolution: int) -> tuple[Section, ...]:
     return tuple(build_section(s, resolution) for s in range(len(anatomy().segments)))
 
 

@@ -6,6 +6,9 @@ off by one dermatome, a muscle graded one step off, an equivocal plantar respons
 """
 from __future__ import annotations
 
+import itertools
+from functools import cache
+
 import numpy as np
 
 from .anatomy import MODALITIES, SIDES, anatomy
@@ -65,6 +68,38 @@ def _sensory_block(loss: np.ndarray) -> np.ndarray:
     for shift, w in BOUNDARY_SHIFT.items():  # recorded at d shows what is predicted at d - shift
         out += w * p[:, np.clip(np.arange(n) - shift, 0, n - 1)]
     return out
+
+
+@cache
+def _sensory_table() -> tuple[np.ndarray, np.ndarray]:
+    """`_sensory_block` as a lookup: the recorded grade's log-probability at a dermatome depends only on the
+    predicted grades at the dermatomes the boundary shifts reach. Returns (shifts, table): table[code] is the
+    (3,) float32 log P of one combination of those grades, code = sum of grade x 3^k over the shifts in order.
+    Every entry goes through the same float64 operations in the same order as `_sensory_block`, so the two agree
+    bit for bit (tests/test_atlas_speed.py)."""
+    shifts = np.array(list(BOUNDARY_SHIFT), dtype=np.intp)
+    combos = np.array(list(itertools.product(range(3), repeat=len(shifts))))[:, ::-1]  # column k: shift k's grade
+    table = np.zeros((len(combos), 3))
+    for k, w in enumerate(BOUNDARY_SHIFT.values()):
+        table += w * SENSORY_CONFUSION[combos[:, k]]
+    code = (combos * 3 ** np.arange(len(shifts))).sum(axis=1)
+    out = np.empty_like(table)
+    out[code] = table
+    return shifts, np.log(out).astype(np.float32)
+
+
+def _sensory_log_block(loss: np.ndarray, out: np.ndarray) -> None:
+    """(c, 28) loss -> `out` (28 x 3, c) float32 log P(recorded grade), dermatome-major:
+    `np.log(_sensory_block(loss))`, transposed."""
+    lo, hi = SENSORY_THRESHOLDS
+    g = np.where(loss < lo, 2, np.where(loss < hi, 1, 0)).astype(np.intp).T  # (28, c)
+    shifts, table = _sensory_table()
+    n = g.shape[0]
+    code = np.zeros_like(g)
+    for k, shift in enumerate(shifts):
+        code += g[np.clip(np.arange(n) - shift, 0, n - 1)] * 3 ** k
+    for v in range(3):  # row 3 d + v: dermatome d, recorded grade v (basic slices: views, written in place)
+        out[v::3] = table[:, v][code]
 
 
 def _motor_block(grade: np.ndarray) -> np.ndarray:
@@ -143,33 +178,59 @@ def crisp_indices(r: Readout, items: tuple) -> np.ndarray:
 
 def log_probabilities(r: Readout, items: tuple, offsets: np.ndarray) -> np.ndarray:
     """(candidates, columns) log P(value | candidate) for every item in `items`, laid out by `offsets`."""
+    return log_probabilities_by_column(r, items, offsets).T
+
+
+def log_probabilities_by_column(r: Readout, items: tuple, offsets: np.ndarray, out: np.ndarray | None = None):
+    """(columns, candidates) log P(value | candidate), the atlas' own layout (written into `out` if given)."""
     a = anatomy()
     n = r.sensory.shape[0]
-    out = np.empty((n, offsets[-1]), dtype=np.float32)
-    sens = {(m, s): _sensory_block(r.sensory[:, mi, si]) for mi, m in enumerate(MODALITIES)
-            for si, s in enumerate(SIDES)}
-    motor = _motor_block(r.motor)
-    muscles = _motor_block(r.muscles)  # non-key muscles: graded as the key ones
-    names = muscle_names()
+    if out is None:
+        out = np.empty((offsets[-1], n), dtype=np.float32)
+    first = {}  # (modality, side) -> the item index of its first dermatome, when the dermatomes follow in order
+    for i, key in enumerate(items):
+        if key[0] == "sensory" and key[3] == a.dermatomes[0]:
+            first[(key[1], key[2])] = i
+    sens = {}
+    for (m, s), i in first.items():
+        block = [("sensory", m, s, d) for d in a.dermatomes]
+        if tuple(items[i:i + len(block)]) == tuple(block) and offsets[i + len(block)] - offsets[i] == 3 * len(block):
+            _sensory_log_block(r.sensory[:, MODALITIES.index(m), SIDES.index(s)],
+                               out[offsets[i]:offsets[i + len(block)]])
+            sens[(m, s)] = True
+    motor = np.log(_motor_block(r.motor)).astype(np.float32)
+    muscles = np.log(_motor_block(r.muscles)).astype(np.float32)  # non-key muscles: graded as the key ones
+    names = {m: i for i, m in enumerate(muscle_names())}
     ordinal4 = _ordinal_confusion(4)
     binary = _binary_confusion()
+    derm = {d: i for i, d in enumerate(a.dermatomes)}
+    myo = {m: i for i, m in enumerate(a.key_myotomes)}
     for i, key in enumerate(items):
         o0, o1 = offsets[i], offsets[i + 1]
         kind = key[0]
         if kind == "sensory":
-            p = sens[(key[1], key[2])][:, a.dermatomes.index(key[3])]
-        elif kind == "motor":
-            p = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
-        elif kind == "muscle":
-            p = muscles[:, SIDES.index(key[1]), names.index(key[2])]
-        elif kind == "reflex":
+            if (key[1], key[2]) not in sens:  # not laid out as one block: compute this side's block apart
+                tmp = np.empty((3 * len(a.dermatomes), n), dtype=np.float32)
+                _sensory_log_block(r.sensory[:, MODALITIES.index(key[1]), SIDES.index(key[2])], tmp)
+                sens[(key[1], key[2])] = tmp
+            block = sens[(key[1], key[2])]
+            if block is not True:
+                out[o0:o1] = block.reshape(len(a.dermatomes), 3, n)[derm[key[3]]]
+            continue
+        if kind == "motor":
+            out[o0:o1] = motor[:, SIDES.index(key[1]), myo[key[2]]].T
+            continue
+        if kind == "muscle":
+            out[o0:o1] = muscles[:, SIDES.index(key[1]), names[key[2]]].T
+            continue
+        if kind == "reflex":
             idx = r.reflexes[(key[1], key[2])]
             nv = len(item_values(key))
-            p = _categorical(idx, ordinal4 if nv == 4 else PLANTAR_CONFUSION if nv == 3 else binary)
+            conf = ordinal4 if nv == 4 else PLANTAR_CONFUSION if nv == 3 else binary
         else:
             idx = r.signs[(key[1], key[2])]
             nv = len(item_values(key))
             c = DECISIVE_CORRECT if key[1] in DECISIVE_SIGNS else BINARY_CORRECT
-            p = _categorical(idx, _binary_confusion(c) if nv == 2 else _three_way_confusion(c))
-        out[:, o0:o1] = np.log(p)
+            conf = _binary_confusion(c) if nv == 2 else _three_way_confusion(c)
+        out[o0:o1] = np.log(conf).astype(np.float32).T[:, idx]
     return out

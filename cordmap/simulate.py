@@ -23,9 +23,10 @@ from .forward import (
     extent_sums,
     fibre_losses_per_segment,
     readout,
+    scale_fibres,
     with_neuropathy,
 )
-from .lesions import CUSTOM, Lesion, lesion_masks
+from .lesions import CUSTOM, Lesion, fibre_shares, lesion_masks
 from .model import DEFAULT_RESOLUTION, sections
 from .nerves import muscle_names
 
@@ -84,7 +85,10 @@ def variant_key(lesion: Lesion) -> tuple | None:
 
 def _sums(lesion: Lesion, resolution: int) -> np.ndarray:
     """(1, 32, features) `extent_sums` of the lesion's masks on all segments, computed afresh."""
-    return extent_sums(fibre_losses_per_segment(lesion_masks(lesion, sections(resolution))[None], resolution))
+    per_seg = fibre_losses_per_segment(lesion_masks(lesion, sections(resolution))[None], resolution)
+    if lesion.pattern != CUSTOM:
+        per_seg = scale_fibres(per_seg, fibre_shares(lesion.pattern, lesion.all_params()))
+    return extent_sums(per_seg)
 
 
 def variant_sums(lesion: Lesion, resolution: int = DEFAULT_RESOLUTION) -> np.ndarray:

@@ -11,7 +11,8 @@ values read differently where the bedside picture differs.
 """
 from __future__ import annotations
 
-from .lesions import CUSTOM, NORMAL, PATTERNS, Lesion
+from .anatomy import anatomy
+from .lesions import CUSTOM, NORMAL, PATTERNS, Lesion, sac_share
 from .nerves import nerve_ids
 from .nerves import words as nerve_words
 
@@ -46,8 +47,52 @@ def segment_range(top: str, bottom: str) -> str:
     return f"at {top}" if top == bottom else f"{top}-{bottom}"
 
 
-def _roots_below(top: str) -> str:
-    return "coccygeal roots" if top == "Co1" else f"{top}-Co roots"
+def sac_level(root: str) -> str:
+    """Where in the spinal canal `root` is the highest root still in the sac: the disc whose paracentral bulge
+    takes it as it traverses (`data/foramina.csv`: L4-L5 for L5), or, below L5-S1, the sacral canal between the
+    foramen above it and its own ('sacral canal at S1-S2' for S2)."""
+    from .imaging import foramina
+
+    disc = next((f.level for f in foramina() if f.paracentral == root and f.level != "sacrum"), None)
+    if disc:
+        return f"{disc} disc"
+    segs = anatomy().segments
+    return f"sacral canal at {segs[segs.index(root) - 1]}-{root}"
+
+
+def _sac_roots(top: str) -> str:
+    """The roots a lesion of the sac takes from `top` down, named to S5 (the coccygeal root has no bedside sign)."""
+    return "S5 root" if top == "S5" else f"{top}-S5 roots"
+
+
+def _cauda(lesion: Lesion, q: dict) -> str:
+    """'cauda equina at a central L4-L5 disc: L5-S5 roots, right > left': the level of the disc or canal where the
+    highest root is caught, the roots, and how the two sides share them, in words."""
+    side = lesion.side
+    other = "right" if side == "left" else "left"
+    contra, medial = q.get("contra", 0.0), q.get("medial", 0.0)
+    central = medial > 0 or contra >= 0.99
+    level = sac_level(lesion.top)
+    if level.startswith("sacral canal"):
+        place = f"in the {level}" + (", midline" if central else "")
+    else:
+        place = f"at {'a central' if central else 'the'} {level}"
+    roots = _sac_roots(lesion.top)
+    if contra >= 0.99:
+        taken = f"{roots} on both sides alike"
+    elif contra > 0.01:
+        taken = f"{roots}, {side} > {other}"
+    elif medial > 0:
+        segs = anatomy().segments
+        first = next((s for s in segs[segs.index(lesion.top):] if sac_share(segs.index(s), medial) > 0), None)
+        if first == lesion.top:  # the other side's roots all reached from the midline: both sides, one worse
+            taken = f"{roots}, {side} > {other}"
+        else:
+            across = f"and across the midline the {other} {_sac_roots(first)}" if first else "only"
+            taken = f"{side} {roots} {across}"
+    else:
+        taken = f"{side} {roots} only"
+    return f"cauda equina {place}: {taken}"
 
 
 def _join(head: str, *parts: str) -> str:
@@ -56,7 +101,7 @@ def _join(head: str, *parts: str) -> str:
 
 def describe(lesion: Lesion) -> str:
     """A lesion in plain words, e.g. 'left half of the cord (Brown-Séquard) at T6',
-    'cauda equina: S3-Co roots, both sides', 'dorsal columns only at T1'."""
+    'cauda equina at a central L4-L5 disc: L5-S5 roots, right > left', 'dorsal columns only at T1'."""
     p = lesion.pattern
     if p == NORMAL:
         return "no lesion (normal cord)"
@@ -92,19 +137,11 @@ def describe(lesion: Lesion) -> str:
     if p == "motor_neuron":
         mix = "mostly lower motor neuron" if q.get("upper", 1.0) < 0.85 else "upper and lower"
         return _join(f"motor neurons, {mix}, {where} (no sensory loss)", _band(q["severity"], _DEGENERATION))
-    if p == "conus":
-        return _join(f"conus medullaris from {lesion.top} down", sev)
+    if p == "conus":  # the cord itself, behind a vertebral body, not roots at a disc: said so, to tell it apart
+        behind = anatomy().vertebra(lesion.top)
+        return _join(f"conus medullaris behind {behind}: cord segments {lesion.top}-Co1 and their roots", sev)
     if p == "cauda_equina":
-        other = "right" if side == "left" else "left"
-        contra = q.get("contra", 0.0)
-        if contra >= 0.99:
-            sides = "both sides"
-        elif contra <= 0.01:
-            sides = f"{side} side" if q.get("medial", 0.0) > 0 else f"{side} side only"
-        else:
-            sides = f"{side} side, {other} side in part"
-        low = f"and the lowest {other} roots (central disc)" if q.get("medial", 0.0) > 0 and contra < 0.99 else ""
-        return _join(f"cauda equina: {_roots_below(lesion.top)}, {sides}", low, sev)
+        return _join(_cauda(lesion, q), sev)
     if p == "root":
         return _join(f"{side} {lesion.top} root", _band(q.get("severity", 1.0), _ROOT))
     if p in nerve_ids():

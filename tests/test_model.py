@@ -276,7 +276,7 @@ def test_cauda_medial_is_monotone(contra):
     for lo, hi in zip(losses, losses[1:]):
         assert (hi >= lo - 1e-5).all()
     assert (losses[-1] > losses[0] + 1e-3).any()
-    from cordmap.lesions import _sac_share
+    from cordmap.lesions import sac_share as _sac_share
 
     shares = [_sac_share(A.index(s), 0.33) for s in ("L3", "L5", "S1", "S2", "S3", "S5", "Co1")]
     assert shares == sorted(shares) and shares[0] == 0 and shares[-1] == 1

@@ -19,9 +19,10 @@ from cordmap.forward import (
     fibre_losses_per_segment,
     readout,
     readout_by_item,
+    scale_fibres,
     with_neuropathy,
 )
-from cordmap.lesions import PATTERNS, Lesion, lesion_masks
+from cordmap.lesions import PATTERNS, Lesion, fibre_shares, lesion_masks
 from cordmap.model import sections
 
 sim = importlib.import_module("cordmap.simulate")  # the module (the package exports the function)
@@ -30,7 +31,7 @@ SEGS = anatomy().segments
 
 def reference_predict(lesion: Lesion):
     masks = np.asarray(lesion_masks(lesion, sections()), dtype=np.float32)  # weights: the counting shortcut unused
-    per_seg = fibre_losses_per_segment(masks[None])
+    per_seg = scale_fibres(fibre_losses_per_segment(masks[None]), fibre_shares(lesion.pattern, lesion.all_params()))
     L = along_extent(per_seg, np.array([0]), np.array([lesion.top_index]), np.array([lesion.bottom_index]))
     L = with_neuropathy(L, np.array([lesion.all_params().get("neuropathy", 0.0)]))
     r = readout_by_item(L, lesion.phase == "acute")
