@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from cordmap import atlas as atlas_mod
-from cordmap import observation
+from cordmap import nerves, observation
 from cordmap.anatomy import MODALITIES, SIDES, anatomy
 from cordmap.findings import all_items, item_values
 from cordmap.forward import (
@@ -57,6 +57,8 @@ def _log_probabilities(r, items, offsets):
     sens = {(m, s): observation._sensory_block(r.sensory[:, mi, si]) for mi, m in enumerate(MODALITIES)
             for si, s in enumerate(SIDES)}
     motor = observation._motor_block(r.motor)
+    muscles = observation._motor_block(r.muscles)
+    names = nerves.muscle_names()
     for i, key in enumerate(items):
         o0, o1 = offsets[i], offsets[i + 1]
         nv = len(item_values(key))
@@ -64,6 +66,8 @@ def _log_probabilities(r, items, offsets):
             p = sens[(key[1], key[2])][:, a.dermatomes.index(key[3])]
         elif key[0] == "motor":
             p = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
+        elif key[0] == "muscle":
+            p = muscles[:, SIDES.index(key[1]), names.index(key[2])]
         elif key[0] == "reflex":
             conf = observation._ordinal_confusion(4) if nv == 4 else (
                 observation.PLANTAR_CONFUSION if nv == 3 else observation._binary_confusion())
@@ -93,10 +97,12 @@ def reference_build(phase, chunk=4096):
     logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
     likely = np.empty((len(items), len(var)), dtype=np.int8)
     neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in vs])
+    nerve = nerves.candidate_codes([v.pattern for v in vs], [v.side for v in vs],
+                                   [dict(v.params).get("severity", 1.0) for v in vs])
     for start in range(0, len(var), chunk):
         sl = slice(start, start + chunk)
         L = with_neuropathy(along_extent(per_seg, var[sl], top[sl], bottom[sl]), neuropathy[var[sl]])
-        r = readout(L, phase == "acute")
+        r = nerves.apply(readout(L, phase == "acute"), *(x[var[sl]] for x in nerve))
         logp[:, sl] = _log_probabilities(r, items, offsets).T
         likely[:, sl] = observation.crisp_indices(r, items).T
     return var, top, bottom, area, logp, likely
