@@ -555,6 +555,13 @@ def read_columns() -> np.ndarray:
     return out
 
 
+def _muscle_losses(L, cols, table):
+    """(upper, lower) motor neuron loss of every muscle of `table` on both sides, as `_umn` and `_lmn` weigh them."""
+    cs, acs_same, acs_other, vh, vr = np.moveaxis(L[:, cols], 1, 0)
+    acs = 0.5 * (acs_same + acs_other)
+    return table.total(table.weight * (0.92 * cs + 0.08 * acs)), table.total(table.weight * _comb(vh, vr))
+
+
 def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     """Bedside findings from fibre losses L (cand x features): `readout_by_item`, whole tables at once.
 
@@ -575,18 +582,10 @@ def readout(L: np.ndarray, acute: bool | np.ndarray = False) -> Readout:
     lt = derm.total(_comb(seg, dc * (0.5 + 0.5 * ast)) / derm.count)
     sens = np.stack([pp, pp, lt, vib, vib], axis=1)
 
-    # key muscles: (n, 2, muscles, slots)
-    cs, acs_same, acs_other, vh, vr = np.moveaxis(L[:, t["muscle_cols"]], 1, 0)
-    mus = t["muscle"]
-    acs = 0.5 * (acs_same + acs_other)
-    mu = mus.total(mus.weight * (0.92 * cs + 0.08 * acs))
-    ml = mus.total(mus.weight * _comb(vh, vr))
+    # key muscles and the non-key limb muscles: (n, 2, muscles, slots)
+    mu, ml = _muscle_losses(L, t["muscle_cols"], t["muscle"])
     motor = motor_grade(mu, ml)
-    cs, acs_same, acs_other, vh, vr = np.moveaxis(L[:, t["limb_cols"]], 1, 0)
-    limb = t["limb"]
-    acs = 0.5 * (acs_same + acs_other)
-    gu = limb.total(limb.weight * (0.92 * cs + 0.08 * acs))
-    gl = limb.total(limb.weight * _comb(vh, vr))
+    gu, gl = _muscle_losses(L, t["limb_cols"], t["limb"])
     muscles = motor_grade(gu, gl)
 
     # reflexes: (n, 2, reflexes, slots)
