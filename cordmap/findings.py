@@ -249,15 +249,7 @@ def parse(doc) -> Findings:
         entries = _mapping(entries, f"motor.{side}")
         _known(entries, a.key_myotomes, f"motor.{side}", "myotome")
         for myo, grade in entries.items():
-            where = f"motor.{side}[{myo!r}]"
-            if isinstance(grade, str) and grade.strip().upper() == "NT":
-                items[("motor", side, myo)] = "NT"
-            elif isinstance(grade, int) and not isinstance(grade, bool) and 0 <= grade <= 5:
-                items[("motor", side, myo)] = grade
-            elif isinstance(grade, str) and grade.strip() in list("012345"):
-                items[("motor", side, myo)] = int(grade)
-            else:
-                raise bad_value(where, grade, ["0", "1", "2", "3", "4", "5", "NT"], "MRC grade")
+            items[("motor", side, myo)] = registry.read_mrc(grade, f"motor.{side}[{myo!r}]")
 
     reflexes = _mapping(doc.get("reflexes", {}), "reflexes")
     _known(reflexes, SIDES, "reflexes", "side")

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from .anatomy import SIDES, anatomy
 from .errors import CordmapError, bad_value, shown
+from .items import read_mrc
 
 FORMAT2 = "cordmap-findings/2"
 KEYS = ("muscles", "tenderness", "band_pain")
@@ -65,17 +66,6 @@ def refuse_in_v1(doc, fmt) -> None:
             raise CordmapError(f"{k}: a {FORMAT2} key in a {fmt} document; set \"format\": \"{FORMAT2}\" to use it")
 
 
-def mrc(grade, where):
-    """An MRC grade 0..5 (int or digit text) or 'NT'."""
-    if isinstance(grade, str) and grade.strip().upper() == "NT":
-        return "NT"
-    if isinstance(grade, int) and not isinstance(grade, bool) and 0 <= grade <= 5:
-        return grade
-    if isinstance(grade, str) and grade.strip() in list("012345"):
-        return int(grade)
-    raise bad_value(where, grade, ["0", "1", "2", "3", "4", "5", "NT"], "MRC grade")
-
-
 def parse_into(doc, items: dict, mapping, known, expand_range) -> None:
     """Read the version-2 keys of `doc` into `items` (the helpers are findings.py's, passed in to avoid a cycle)."""
     names = muscle_names()
@@ -85,7 +75,7 @@ def parse_into(doc, items: dict, mapping, known, expand_range) -> None:
         entries = mapping(entries, f"muscles.{side}")
         known(entries, names, f"muscles.{side}", "muscle")
         for name, grade in entries.items():
-            items[("muscle", side, name)] = mrc(grade, f"muscles.{side}[{name!r}]")
+            items[("muscle", side, name)] = read_mrc(grade, f"muscles.{side}[{name!r}]")
     tender = doc.get("tenderness", [])
     if not isinstance(tender, list):
         raise CordmapError(f"tenderness: expected a list of vertebrae such as [\"T6\"], got {shown(tender, 40)}")

@@ -30,7 +30,7 @@ from typing import NamedTuple
 
 from .anatomy import MODALITIES, SIDES, TENDON_REFLEXES, _table, anatomy
 from .anatomy import REFLEXES as REFLEX_NAMES
-from .errors import CordmapError
+from .errors import CordmapError, bad_value
 
 
 @dataclass(frozen=True)
@@ -289,6 +289,18 @@ def abnormal(k: tuple, value) -> bool:
 def normal(k: tuple, value) -> bool:
     """Whether a recorded value is normal (False for "NT": not tested is not normal)."""
     return scale(k).verdict(value) is False
+
+
+def read_mrc(grade, where: str):
+    """An MRC grade as a findings document gives it (an int 0..5, its digit as text, or 'NT') in canonical form;
+    anything else is a one-line error naming `where` (a key muscle and a non-key muscle are read alike)."""
+    if isinstance(grade, str) and grade.strip().upper() == "NT":
+        return "NT"
+    if isinstance(grade, int) and not isinstance(grade, bool) and 0 <= grade <= 5:
+        return grade
+    if isinstance(grade, str) and grade.strip() in list("012345"):
+        return int(grade)
+    raise bad_value(where, grade, ["0", "1", "2", "3", "4", "5", "NT"], "MRC grade")
 
 
 def distance(k: tuple) -> tuple[int, ...]:
