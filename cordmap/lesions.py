@@ -269,7 +269,7 @@ def _posterior_compression(sec, xs, side, p):
 
 
 def _anterior_horn(sec, xs, side, p):
-    return (sec.structure == S["ventral_horn"]) & _half(xs, side)
+    return _thin(sec, (sec.structure == S["ventral_horn"]) & _half(xs, side), p.get("severity", 1.0))
 
 
 # Motor neuron disease spares the sphincters: Onuf's nucleus (the anal and urethral sphincters' motor neurons in
@@ -436,7 +436,11 @@ PATTERNS: dict[str, Pattern] = {p.id: p for p in (
             ("both",), _posterior_compression, (_BACK_DEPTH, _INCOMPLETE),
             max_extent=COMPRESSION_MAX_EXTENT, atlas_tops=CORD_TOPS, family="compression"),
     Pattern("anterior_horn", "the ventral horn motor neurons alone (pure lower motor neuron)",
-            ("left", "right", "both"), _anterior_horn),
+            ("left", "right", "both"), _anterior_horn,
+            # Partial loss of the pools (grade 3-4 muscles) is the usual picture of a focal amyotrophy; poliomyelitis
+            # may leave a limb flail (from memory, standard neurology teaching).
+            (Param("severity", 1.0, (0.65, 0.9, 1.0), 0.05, 1.0,
+                   "share of the ventral horn motor neurons lost, evenly over every segment of the region"),)),
     Pattern("motor_neuron", "corticospinal tracts and ventral horns, no sensory structure (mixed motor neuron)",
             ("both",), _motor_neuron,
             # The ventral horns' loss reaches 0.9 (grade 2-3 on the MRC scale, forward.LMN_EXPONENT): wasted hands

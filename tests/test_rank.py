@@ -100,8 +100,10 @@ def test_round_trip(atlas, crisp):
     # grades 4-5; with motor neuron disease's grid widened to match (lesions.py), the layers laid out below the
     # pixel (lamination without stripes) and the nerve lesions, 289 of 16,196 exams miss (98.2%; 94.6% per
     # candidate): anterior horn exams come back as small central lesions (whose prior is four times larger), the
-    # rest are twins within one pattern.
-    assert share >= 0.98 and per_candidate >= 0.94
+    # rest are twins within one pattern. Partial anterior horn lesions (severity 0.65 and 0.9, added for the focal
+    # amyotrophies of the corpus: top-1 82.6% -> 83.7%) add 76 more: a bilateral partial pool loss with no sensory
+    # finding reads as a small central lesion's exam (365 of 16,431 miss: 97.8%; 93.8% per candidate).
+    assert share >= 0.975 and per_candidate >= 0.935
 
 
 # ------------------------------------------------------------------ noise
