@@ -111,11 +111,56 @@ def _print_ranking(r, out=None):
     w(f"\n{C.BANNER}\n")
 
 
+_SIDE_WORDS = {("both",): "both sides", ("left", "right"): "one side (left or right)",
+               ("left", "right", "both"): "one side or both"}
+
+
+def _pattern_group(pid: str) -> str:
+    from .nerves import nerve_ids
+
+    if pid == "normal":
+        return "No lesion"
+    if pid in nerve_ids():
+        return "One peripheral nerve of a limb (outside the cord and roots)"
+    if pid in ("conus", "cauda_equina", "root", "polyneuropathy"):
+        return "The conus, the cauda equina, one root, or the peripheral nerves as a whole"
+    return "Inside the cord"
+
+
+def _pattern_place(p) -> str:
+    """Sides and levels of a pattern in words."""
+    from .nerves import nerve_ids
+
+    sides = _SIDE_WORDS.get(tuple(p.sides), ", ".join(p.sides))
+    if p.id == "normal":
+        return sides
+    if p.id in nerve_ids():
+        return f"{sides}; no cord level (its exam resembles the {p.tops[0]} root's)"
+    if p.id == "polyneuropathy":
+        return f"{sides}; no cord level (length-dependent: the longest nerves first)"
+    extent = ("one segment" if p.single else f"down to {p.bottom_fixed}" if p.bottom_fixed
+              else f"up to {p.max_extent} segments")
+    return f"{sides}; rostral segment {p.tops[0]}-{p.tops[1]}, {extent}"
+
+
 def cmd_patterns(args):
+    """Every lesion pattern, grouped by where it lies, with its sides, levels and parameters in words."""
+    import textwrap
+
+    groups: dict[str, list] = {}
     for p in PATTERNS.values():
-        params = ", ".join(f"{q.name}={q.default:g}" for q in p.params)
-        sides = "/".join(p.sides)
-        print(f"{p.id:<22} {p.summary} [side {sides}{'; ' + params if params else ''}]")
+        groups.setdefault(_pattern_group(p.id), []).append(p)
+    pad = " " * 25
+    for title, pats in groups.items():
+        print(title)
+        for p in pats:
+            print(textwrap.fill(p.summary, 118, initial_indent=f"  {p.id:<22} ", subsequent_indent=pad))
+            print(textwrap.fill(_pattern_place(p), 118, initial_indent=pad, subsequent_indent=pad))
+            for q in p.params:
+                tried = ", ".join(f"{v:g}" for v in q.grid)
+                print(textwrap.fill(f"- {q.name}: {q.doc} (default {q.default:g}; ranked at {tried})", 118,
+                                    initial_indent=pad, subsequent_indent=pad + "  "))
+        print()
 
 
 def cmd_simulate(args):

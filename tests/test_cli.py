@@ -21,6 +21,18 @@ def test_patterns_lists_every_id(capsys):
         assert pid in out
 
 
+def test_patterns_read_in_clinical_groups(capsys):
+    """Nerves and the polyneuropathy have no cord level; every parameter is explained with the values ranked."""
+    assert main(["patterns"]) == 0
+    out = capsys.readouterr().out
+    cord, rest = out.split("The conus, the cauda equina", 1)
+    roots, nerves = rest.split("One peripheral nerve of a limb", 1)
+    assert "hemisection" in cord and "cauda_equina" in roots and "peroneal_fibular_head" in nerves
+    assert "rostral segment" not in nerves.split("No lesion")[0]
+    assert "no cord level (its exam resembles the L5 root's)" in nerves
+    assert "- contra: share of the other side's roots involved (default 0.5; ranked at 0, 0.5, 1)" in roots
+
+
 def test_simulate_prints_a_findings_document(capsys):
     assert main(["simulate", "hemisection", "--side", "left", "--rostral", "T6"]) == 0
     doc = json.loads(capsys.readouterr().out)
