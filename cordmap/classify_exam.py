@@ -27,6 +27,8 @@ def key_index() -> dict[str, int]:
 
 @dataclass(frozen=True)
 class Exam:
+    """One exam's findings as the rules read them: None for an item not examined (a motor "NT" too)."""
+
     findings: Findings
 
     def sens(self, mod: str, side: str, derm: str) -> int | None:
