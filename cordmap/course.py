@@ -40,8 +40,9 @@ import pandas as pd
 from .classify import AIS_GRADES, NA, ND, Classification, classify, levels
 from .errors import CordmapError, bad_value, shown
 from .files import MAX_FINDINGS_BYTES, read_bounded
-from .findings import Findings, _known, _mapping, loads, parse
+from .findings import Findings, loads, parse
 from .findings import read as read_findings
+from .findings_document import _known, _mapping
 
 FORMAT = "cordmap-course/1"
 TIME_UNITS = ("hours", "days")

@@ -9,8 +9,8 @@
 
 Tenderness and band pain are recorded where found; a vertebra or dermatome not listed is not taken as examined and
 normal. A version-1 document using one of these keys is refused with a line saying to set the format.
-`cordmap.findings` calls the functions here (parse, write, tidy rows); the ranker reads muscles through the atlas
-and the two clues through `cordmap.clues`.
+`cordmap.findings_document` (parse, write) and `cordmap.findings_tidy` (tidy rows) call the functions here; the
+ranker reads muscles through the atlas and the two clues through `cordmap.clues`.
 """
 from __future__ import annotations
 
@@ -67,7 +67,8 @@ def refuse_in_v1(doc, fmt) -> None:
 
 
 def parse_into(doc, items: dict, mapping, known, expand_range) -> None:
-    """Read the version-2 keys of `doc` into `items` (the helpers are findings.py's, passed in to avoid a cycle)."""
+    """Read the version-2 keys of `doc` into `items` (the helpers are findings_document.py's, passed in to
+    avoid a cycle)."""
     names = muscle_names()
     muscles = mapping(doc.get("muscles", {}), "muscles")
     known(muscles, SIDES, "muscles", "side")
