@@ -135,7 +135,7 @@ def _central(sec, xs, side, p):
     # than the arms.
     columns = p.get("columns", 0.0)
     if columns > 0:
-        core = _union(core, _thin(sec, sec.structure == S["lateral_corticospinal"], columns))
+        core = _union(core, _thin(sec, _structures(sec, ("lateral_corticospinal",)), columns))
     return core
 
 
@@ -247,8 +247,21 @@ LEVEL_FULL_DEPTH = 0.35  # the gray matter and roots at the level are squeezed i
 
 
 def _structures(sec, names):
-    """Pixels of any of the named structures (kept per section: read-only, never changed in place)."""
-    return _memo(("structures", names), sec, lambda s: np.isin(s.structure, [S[n] for n in names]))
+    """Pixels holding any fibres or cells of the named structures (kept per section: read-only, never changed in
+    place): a pixel of a laminated tract's edge may be labelled fasciculus proprius by its centre yet hold some of
+    a layer the segment still carries (`Section.by_region`), and an even share of the tract must reach that too (a
+    compression that spared it lost less of the outermost layers carried at each segment: a stripe)."""
+    return _memo(("structures", names), sec, lambda s: _holding(s, {S[n] for n in names}))
+
+
+def _holding(sec, structures: set[int]) -> np.ndarray:
+    """Pixels with a membership in any region of the given structure ids."""
+    out = np.isin(sec.structure, list(structures)).ravel()
+    ends = np.append(sec.region_starts[1:], len(sec.by_region))
+    for rid, (st, _side, _body) in enumerate(sec.regions):
+        if st in structures:
+            out[sec.by_region[sec.region_starts[rid]:ends[rid]]] = True
+    return out.reshape(sec.structure.shape)
 
 
 def _flattened(sec, depth, order, level):
