@@ -362,6 +362,15 @@ SHELL_POINTS = (4, 4)
 _SUB_LAMINATED: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}  # pure: a tract's outline -> its layout
 
 
+def stt_depth_order(sec: Section) -> np.ndarray:
+    """(n, n) float: where each pixel lies among the lateral spinothalamic tract's layers, 0 at the deepest (C2)
+    layer's inner edge to 1 at the outermost (sacral) layer's outer edge (the fixed layout of `_stt_edges`; the
+    same at every level); outside the tract's layout the nearer end. A compression reaching the tract from outside
+    meets the high values first."""
+    edges = _stt_edges(sec.x.shape[0])[0]
+    return np.interp(_stt_coord(sec.x, sec.y), edges, (np.arange(len(edges)) + 1.0) / (len(edges) + 1))
+
+
 def _sub_laminate_cached(name, sel, x, y, coord, bodies, points, edges=None):
     """`_sub_laminate`, once per tract outline: segments whose tract has the same outline share its layout."""
     key = (name, sel.shape, hashlib.sha256(np.packbits(sel)).digest(), tuple(bodies), points,
