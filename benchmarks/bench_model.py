@@ -38,6 +38,7 @@ PROFILES = (
     ("posterior_compression", "both", "C5", "T1", {"depth": 0.25}),
     ("lateral_compression", "left", "C5", "C5", {"depth": 0.25, "severity": 0.25}),
     ("hemisection", "left", "T6", "T6", {}),
+    ("anterior_compression", "both", "T6", "T6", {"depth": 0.42}),  # outer layers first: a level below the lesion
     ("posterolateral", "both", "T1", "T3", {"severity": 1.0, "neuropathy": 0.65}),
 )
 

@@ -13,7 +13,7 @@ import numpy as np
 
 from .anatomy import anatomy
 from .errors import CordmapError, bad_value
-from .model import S, Section, dorsal_horn_axis
+from .model import S, Section, dorsal_horn_axis, stt_depth_order
 from .nerves import SEVERITY_GRID, nerves
 
 SIDE_VALUES = ("left", "right", "both")
@@ -135,7 +135,7 @@ def _central(sec, xs, side, p):
     # than the arms.
     columns = p.get("columns", 0.0)
     if columns > 0:
-        core = _union(core, _thin(sec, sec.structure == S["lateral_corticospinal"], columns))
+        core = _union(core, _thin(sec, _structures(sec, ("lateral_corticospinal",)), columns))
     return core
 
 
@@ -247,20 +247,59 @@ LEVEL_FULL_DEPTH = 0.35  # the gray matter and roots at the level are squeezed i
 
 
 def _structures(sec, names):
-    """Pixels of any of the named structures (kept per section: read-only, never changed in place)."""
-    return _memo(("structures", names), sec, lambda s: np.isin(s.structure, [S[n] for n in names]))
+    """Pixels holding any fibres or cells of the named structures (kept per section: read-only, never changed in
+    place): a pixel of a laminated tract's edge may be labelled fasciculus proprius by its centre yet hold some of
+    a layer the segment still carries (`Section.by_region`), and an even share of the tract must reach that too (a
+    compression that spared it lost less of the outermost layers carried at each segment: a stripe)."""
+    return _memo(("structures", names), sec, lambda s: _holding(s, {S[n] for n in names}))
 
 
-def _flattened(sec, depth, order, level):
+def _holding(sec, structures: set[int]) -> np.ndarray:
+    """Pixels with a membership in any region of the given structure ids."""
+    out = np.isin(sec.structure, list(structures)).ravel()
+    ends = np.append(sec.region_starts[1:], len(sec.by_region))
+    for rid, (st, _side, _body) in enumerate(sec.regions):
+        if st in structures:
+            out[sec.by_region[sec.region_starts[rid]:ends[rid]]] = True
+    return out.reshape(sec.structure.shape)
+
+
+# A mass in front of the cord catches the lateral spinothalamic tract from outside in: its outer layers, which
+# carry the sacral and lumbar fibres, go first, so a partial compression gives a sensory level several segments
+# below itself (a false localizing level; from memory, standard neurology teaching on extramedullary compression,
+# e.g. Brazis, Masdeu and Biller, Localization in Clinical Neurology, ch. 5). The tract's outermost layer reaches
+# each share OUTER_FIRST of the depth before its deepest one (the share growing along `model.stt_depth_order`;
+# judgement). The anterior spinothalamic tract, not laminated in the model, loses an even share. A mass behind the
+# cord keeps the even share: it takes the dorsal roots and horns of its level first, and a spinothalamic loss
+# beginning segments lower would leave a band of loss at the level, normal skin, then a level below (two runs down
+# the body, which the stripe rule of issue 11 forbids for a convex lesion); the model does not make that picture.
+OUTER_FIRST = 0.3
+
+
+def _outer_first(sec, depth, lo, hi):
+    """The lateral spinothalamic tracts' share lost to a compression of `depth` whose even share would be
+    (depth - lo) / (hi - lo): a weight per pixel, larger for the outer layers (OUTER_FIRST)."""
+    tract = _structures(sec, ("lateral_spinothalamic",))
+    order = _memo("stt_order", sec, stt_depth_order)
+    share = np.clip((depth - lo + OUTER_FIRST * (order - 0.5)) / (hi - lo), 0.0, 1.0).astype(np.float32)
+    return np.where(tract, share, np.float32(0.0))
+
+
+def _flattened(sec, depth, order, level, outer_first=False):
     m = _thin(sec, level, float(np.clip(depth / LEVEL_FULL_DEPTH, 0.0, 1.0)))
     for names, (lo, hi) in order.items():
+        if names == _STT and outer_first:
+            m = _union(m, _thin(sec, _structures(sec, ("anterior_spinothalamic",)),
+                                float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0))))
+            m = _union(m, _outer_first(sec, depth, lo, hi))
+            continue
         m = _union(m, _thin(sec, _structures(sec, names), float(np.clip((depth - lo) / (hi - lo), 0.0, 1.0))))
     return m
 
 
 def _anterior_compression(sec, xs, side, p):
     level = _structures(sec, ("ventral_horn", "ventral_root"))
-    return _flattened(sec, p["depth"], _FRONT_ORDER, level)
+    return _flattened(sec, p["depth"], _FRONT_ORDER, level, outer_first=True)
 
 
 def _posterior_compression(sec, xs, side, p):

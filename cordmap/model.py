@@ -20,6 +20,8 @@ Lamination (``lamination.csv``):
 * dorsal columns: each entering segment adds its fibres laterally, so the lowest body segments lie medial;
   fasciculus cuneatus (T6 and above) lateral to gracilis (T7 and below);
 * lateral spinothalamic tract: sacral fibres outermost and dorsal, cervical fibres deepest and ventral (`STT_BANDS`);
+  its layers are laid out once, over the tract at C1, and lie at the same places at every level (`_stt_edges`): a
+  swelling ventral horn clips the deepest layers a segment carries rather than pushing every layer outward;
 * lateral corticospinal tract: leg fibres outermost, arm fibres deep. This is the classic teaching; Levi and
   Schwab (J Neurosurg Spine 2022;36:653) find no such somatotopy in primates, so nothing in the ranker leans on
   it alone (the central-cord picture also comes from the ventral horns and the crossing fibres).
@@ -108,14 +110,19 @@ class Section:
         return out if np.ndim(mask) == 3 else out[0]
 
 
-def _laminate(sel: np.ndarray, coord: np.ndarray, bodies: list[int], body: np.ndarray) -> None:
+def _laminate(sel: np.ndarray, coord: np.ndarray, bodies: list[int], body: np.ndarray,
+              edges: np.ndarray | None = None) -> None:
     """Give the pixels in `sel` body segments by the quantile of `coord`: bodies[0] at the low end.
 
-    Each body segment gets a share of the tract's area proportional to its fibre weight.
+    Each body segment gets a share of the tract's area proportional to its fibre weight. With `edges` (the
+    len(bodies) - 1 values of `coord` between layers, `_quantile_edges`), the layers lie at those fixed places.
     """
     if not bodies or not sel.any():
         return
     idx = np.flatnonzero(sel.ravel())
+    if edges is not None:
+        body.reshape(-1)[idx] = np.asarray(bodies)[np.searchsorted(edges, coord.ravel()[idx], side="right")]
+        return
     order = idx[np.argsort(coord.ravel()[idx], kind="stable")]
     w = np.array([fibre_weight(j) for j in bodies])
     edges = np.round(np.cumsum(w) / w.sum() * len(order)).astype(int)
@@ -175,9 +182,9 @@ def dorsal_horn_axis(y):
     return 0.08 + (y - 0.05) * 0.24 / 0.78
 
 
-def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
+def _raster(s: int, n: int):
+    """The structure and side rasters of segment s before lamination: (x, y, st, side)."""
     a = anatomy()
-    n = resolution
     half = (np.arange(n - n // 2) + (0.5 if n % 2 == 0 else 0.0)) / n * 2 * EXTENT
     c = np.concatenate([-half[::-1][: n // 2], half])  # exactly mirror-symmetric pixel centres
     x, y = np.meshgrid(c, -c)  # row 0 is dorsal (top of the picture)
@@ -189,7 +196,6 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
 
     st = np.zeros((n, n), dtype=np.int16)
     side = np.where(x < 0, 0, 1).astype(np.int8)
-    body = np.full((n, n), -1, dtype=np.int16)
     cord = (r <= 1.0) & ~((ax < 0.035) & (y < -0.72))  # ventral median fissure
 
     # white matter by funiculus
@@ -207,7 +213,10 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
     symp = lateral & (phi >= -13) & (phi < -2) & (depth >= 0.1) & (depth < 0.5)
     if s <= a.index("L2"):
         st[symp] = S["descending_sympathetic"]
-    lst = lateral & (phi < -2) & (st == S["other_white"])
+    # The lateral spinothalamic tract lies lateral to the ventral horn; the white matter medial to the horn's centre,
+    # beside the intermediate gray, is fasciculus proprius (from memory, standard neuroanatomy atlases). Without
+    # this the tract's deepest layer reached the central gray at C1, where a small central lesion took it.
+    lst = lateral & (phi < -2) & (st == S["other_white"]) & (ax >= 0.05 + 0.30 * gs)
     st[lst] = S["lateral_spinothalamic"]
     if present["anterior_corticospinal"]:
         st[anterior & (ax < 0.16)] = S["anterior_corticospinal"]
@@ -239,6 +248,18 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
     st[_disk(ax, y, 0.72, -0.95, 0.15, 0.12) & (r > 1.02)] = S["ventral_root"]
     side[(st == S["anterior_commissure"]) | (st == S["central_canal"])] = -1
     side[st == 0] = -1
+    return x, y, st, side
+
+
+def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
+    a = anatomy()
+    n = resolution
+    x, y, st, side = _raster(s, n)
+    st, side = st.copy(), side.copy()
+    ax = np.abs(x)
+    r = np.hypot(x, y)
+    body = np.full((n, n), -1, dtype=np.int16)
+    stt_edges = _stt_edges(n)
 
     # Lamination of the long tracts. Layers are laid out for the full set of body segments, as at C1, so that a
     # layer sits at the same place at every level; layers a segment does not carry (fibres that have not yet
@@ -252,19 +273,19 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
         dc, lst = on & (st == S["gracilis"]), on & (st == S["lateral_spinothalamic"])
         lc = on & (st == S["lateral_corticospinal"])
         _laminate(dc, u, bodies[::-1], body)  # medial = lowest
-        _laminate(lst, _stt_coord(x, y), bodies, body)  # lateral and dorsal = sacral
+        _laminate(lst, _stt_coord(x, y), bodies, body, stt_edges[0])  # lateral and dorsal = sacral
         _laminate(lc, _intermixed(lc, r, CST_INTERMIX), bodies, body)  # outer = leg, in part
         # The same layers laid out over several points in each pixel: a pixel's area is shared among the layers
         # it overlaps (a layer of the dorsal columns or the spinothalamic tract is narrower than a pixel).
         # The dorsal columns' layers are thin medial-to-lateral sheets (the sacral ones thinnest, at the septum):
         # many points across a pixel, few along it; the other tracts' layers are shells, points both ways.
-        for sel, coord, order, name, points in (
+        for sel, coord, order, name, points, edges in (
                 (dc, lambda px, py: np.abs(px) / np.maximum(dorsal_horn_axis(py), 1e-3), bodies[::-1], "gracilis",
-                 DC_POINTS),
+                 DC_POINTS, None),
                 (lst, _stt_coord, bodies,
-                 "lateral_spinothalamic", SHELL_POINTS),
-                (lc, None, bodies, "lateral_corticospinal", SHELL_POINTS)):
-            soft.append((*_sub_laminate_cached(name, sel, x, y, coord, order, points), S[name]))
+                 "lateral_spinothalamic", SHELL_POINTS, stt_edges[1]),
+                (lc, None, bodies, "lateral_corticospinal", SHELL_POINTS, None)):
+            soft.append((*_sub_laminate_cached(name, sel, x, y, coord, order, points, edges), S[name]))
     gone = (((st == S["gracilis"]) | (st == S["lateral_corticospinal"])) & (body < s)) | \
            ((st == S["lateral_spinothalamic"]) & (body <= s))
     st[gone] = S["other_white"]
@@ -321,7 +342,8 @@ def build_section(s: int, resolution: int = DEFAULT_RESOLUTION) -> Section:
 # in the body). Shells alone put a cervical layer beside the ventral horn's lateral tip, where a mass pressing from
 # the side reached it before the thoracic layers outside it; bands alone cut across a central lesion's outline. The
 # share STT_BANDS of the bands: judgement, the one of 0, 0.15, 0.25, 0.35, 0.5 and 0.75 with the fewest striped
-# exams over the atlas (`cordmap.stripes`).
+# exams over the atlas (`cordmap.stripes`), when the layers were still laid out afresh over each segment's outline;
+# they now keep their places at every level (`_stt_edges`) and no exam stripes.
 STT_TILT = 0.3
 STT_BANDS = 0.35
 
@@ -340,23 +362,29 @@ SHELL_POINTS = (4, 4)
 _SUB_LAMINATED: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}  # pure: a tract's outline -> its layout
 
 
-def _sub_laminate_cached(name, sel, x, y, coord, bodies, points):
+def stt_depth_order(sec: Section) -> np.ndarray:
+    """(n, n) float: where each pixel lies among the lateral spinothalamic tract's layers, 0 at the deepest (C2)
+    layer's inner edge to 1 at the outermost (sacral) layer's outer edge (the fixed layout of `_stt_edges`; the
+    same at every level); outside the tract's layout the nearer end. A compression reaching the tract from outside
+    meets the high values first."""
+    edges = _stt_edges(sec.x.shape[0])[0]
+    return np.interp(_stt_coord(sec.x, sec.y), edges, (np.arange(len(edges)) + 1.0) / (len(edges) + 1))
+
+
+def _sub_laminate_cached(name, sel, x, y, coord, bodies, points, edges=None):
     """`_sub_laminate`, once per tract outline: segments whose tract has the same outline share its layout."""
-    key = (name, sel.shape, hashlib.sha256(np.packbits(sel)).digest(), tuple(bodies), points)
+    key = (name, sel.shape, hashlib.sha256(np.packbits(sel)).digest(), tuple(bodies), points,
+           None if edges is None else edges.tobytes())
     hit = _SUB_LAMINATED.get(key)
     if hit is None:
-        hit = _SUB_LAMINATED[key] = _sub_laminate(sel, x, y, coord, bodies, points)
+        hit = _SUB_LAMINATED[key] = _sub_laminate(sel, x, y, coord, bodies, points, edges)
         for arr in hit:
             arr.flags.writeable = False
     return hit
 
 
-def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: list[int],
-                  points: tuple[int, int]):
-    """The body segment of each of `points` (nx x ny) points in every pixel of `sel`, layers by the quantile of
-    `coord` (x, y) over all the points (each body segment's share in proportion to its fibre weight), as
-    `_laminate` lays out whole pixels. `coord` None: the corticospinal blend of depth and a fixed field
-    (`_intermixed`). Returns (pixel indices (P,), bodies (P, nx x ny))."""
+def _sub_points(sel: np.ndarray, x: np.ndarray, y: np.ndarray, points: tuple[int, int]):
+    """(pixel indices (P,), x (P, nx x ny), y (P, nx x ny)) of `points` points in every pixel of `sel`."""
     idx = np.flatnonzero(sel.ravel())
     n = x.shape[1]
     step = 2 * EXTENT / n
@@ -364,8 +392,44 @@ def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: 
     offx = (np.arange(nx) - (nx - 1) / 2) * step / nx
     offy = (np.arange(ny) - (ny - 1) / 2) * step / ny
     ox, oy = (a.ravel() for a in np.meshgrid(offx, offy))
-    px = x.ravel()[idx][:, None] + ox[None, :]
-    py = y.ravel()[idx][:, None] + oy[None, :]
+    return idx, x.ravel()[idx][:, None] + ox[None, :], y.ravel()[idx][:, None] + oy[None, :]
+
+
+def _quantile_edges(c: np.ndarray, bodies: list[int]) -> np.ndarray:
+    """The len(bodies) - 1 values of `c` between layers laid out by quantile (each body segment's share in
+    proportion to its fibre weight), as `_laminate` lays them out."""
+    c = np.sort(np.asarray(c).ravel(), kind="stable")
+    w = np.array([fibre_weight(j) for j in bodies])
+    ends = np.clip(np.round(np.cumsum(w) / w.sum() * len(c)).astype(int)[:-1], 1, len(c) - 1)
+    return 0.5 * (c[ends - 1] + c[ends])
+
+
+@cache
+def _stt_edges(resolution: int) -> tuple[np.ndarray, np.ndarray]:
+    """Where the lateral spinothalamic tract's layers lie (values of `_stt_coord` between layers; pixel centres,
+    sub-pixel points): laid out once, over the tract of C1, which carries every body segment, and kept at those
+    places at every level. Laying them out afresh over each segment's own outline moved every layer outward where
+    the ventral horns swell (the enlargements): a mass from the side took a larger share of the same layers there
+    than above and below, and the loss along the body came and went (stripes, issue 11)."""
+    x, y, st, side = _raster(0, resolution)
+    lst = (st == S["lateral_spinothalamic"]) & (side == 0)
+    bodies = list(range(1, 30))
+    _, px, py = _sub_points(lst, x, y, SHELL_POINTS)
+    out = (_quantile_edges(_stt_coord(x, y)[lst], bodies), _quantile_edges(_stt_coord(px, py), bodies))
+    for e in out:
+        e.flags.writeable = False
+    return out
+
+
+def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: list[int],
+                  points: tuple[int, int], edges: np.ndarray | None = None):
+    """The body segment of each of `points` (nx x ny) points in every pixel of `sel`, layers by the quantile of
+    `coord` (x, y) over all the points (each body segment's share in proportion to its fibre weight), as
+    `_laminate` lays out whole pixels, or at the fixed `edges` of `coord` when given. `coord` None: the
+    corticospinal blend of depth and a fixed field (`_intermixed`). Returns (pixel indices (P,), bodies
+    (P, nx x ny))."""
+    idx, px, py = _sub_points(sel, x, y, points)
+    n = x.shape[1]
     if coord is None:
         r = np.hypot(px, py)
         q = np.empty(r.size)
@@ -377,12 +441,15 @@ def _sub_laminate(sel: np.ndarray, x: np.ndarray, y: np.ndarray, coord, bodies: 
     out = np.full(c.shape, -1, dtype=np.int64)
     if not len(idx):
         return idx, out
+    if edges is not None:
+        out[:] = np.asarray(bodies)[np.searchsorted(edges, c, side="right")]
+        return idx, out
     order = np.argsort(c.ravel(), kind="stable")
     w = np.array([fibre_weight(j) for j in bodies])
-    edges = np.round(np.cumsum(w) / w.sum() * len(order)).astype(int)
+    ends = np.round(np.cumsum(w) / w.sum() * len(order)).astype(int)
     flat = out.reshape(-1)
     start = 0
-    for j, end in zip(bodies, edges):
+    for j, end in zip(bodies, ends):
         flat[order[start:max(end, start + 1)]] = j
         start = max(end, start + 1)
     return idx, out

@@ -12,7 +12,9 @@ Which predictions the rule binds (decided per pattern, `lesions.PATTERNS`):
   are a tract of their own), the dorsal columns with or without the horns, a compression from one side (a
   half-plane and the outer part of its roots), the conus (cord and roots);
 * the even shares: an incomplete lesion (`severity` < 1) thins a convex shape evenly, and a compression from the
-  front or behind takes an even share of each tract, so every layer of a tract loses the same share (flat);
+  front or behind takes an even share of each tract, so every layer of a tract loses the same share (flat), except
+  a front compression's lateral spinothalamic tracts, whose share grows steadily from the deepest layer to the
+  outermost (`lesions.OUTER_FIRST`: monotone along the layers, so still one run);
   a central lesion's lateral-column share (`columns`) reaches the corticospinal tracts only, which carry no
   sensation;
 * the roots in the sac (cauda equina: the worse side's roots from the top down, the other side's lowest roots from
