@@ -7,14 +7,16 @@ Neither is predicted by the forward model (no fibre loss makes a vertebra tender
   tender over the vertebra that compresses the cord, and the cord segments at that vertebra (`data/segments.csv`:
   the cord segments lie above the vertebrae of their number) are where its rostral edge lies, not where the
   sensory loss begins: the outer, sacral fibres of the spinothalamic tract are caught first, so the level may lie
-  several segments below the lesion (a false localizing level). A compression candidate stands for "a compression
-  whose loss begins at its rostral segment t"; the clue says that compression lies at a tender segment s with
-  t - FALSE_LEVEL <= s <= t. Such a candidate gains TENDER_AT; one a vertebra further off TENDER_NEAR. The
-  ranking then adds the tender vertebra to that hypothesis' imaging window (`with_windows`).
+  several segments below the lesion (a false localizing level). The model makes that false level itself for
+  compressions from the front and the side (`lesions.OUTER_FIRST`), so a compression whose rostral segment lies
+  at the tender vertebra gains TENDER_AT. One whose loss begins up to FALSE_LEVEL segments lower, or at the next
+  vertebra, gains TENDER_NEAR: the model may not reach every false level (its depth grid is coarse, and a
+  compression from behind takes the roots at its level first, so it keeps an even share). The ranking then adds
+  the tender vertebra to that hypothesis' imaging window (`with_windows`).
 * **Band-like or radicular pain** at a dermatome on one side: the root of that dermatome is irritated, by a root
   lesion or by a compression at that segment. A root lesion of that segment and side, or a compression (on that
-  side or in the midline) lying at that segment with its loss beginning there or up to FALSE_LEVEL segments lower,
-  gains BAND_AT.
+  side or in the midline) at that segment, gains BAND_AT; a compression whose loss begins up to FALSE_LEVEL
+  segments lower gains BAND_NEAR.
 
 Every other candidate gains nothing, so the clue speaks only for the lesions it localizes, as a likelihood ratio:
 P(clue | such a lesion at that level) / P(clue | any other lesion). Several tender vertebrae (or painful dermatomes)
@@ -35,6 +37,7 @@ from .anatomy import SIDES, anatomy
 TENDER_AT = float(np.log(3.0))  # likelihood ratio 3 at the tender vertebra (judgement)
 TENDER_NEAR = float(np.log(1.5))  # 1.5 a vertebra above or below (the segment-to-vertebra rule's spread)
 BAND_AT = float(np.log(3.0))  # likelihood ratio 3 for a root or compression at the band's segment (judgement)
+BAND_NEAR = float(np.log(1.5))  # 1.5 for a compression whose loss begins below the band (judgement)
 COMPRESSIONS = ("lateral_compression", "anterior_compression", "posterior_compression")
 # How far below an extrinsic compression its sensory level may lie, in cord segments: false localizing levels
 # several segments below a thoracic compression are classic (from memory, standard neurology teaching on the
@@ -76,8 +79,10 @@ def log_likelihood(f, at) -> np.ndarray | None:
     if tender:
         best = np.zeros(len(top), dtype=np.float32)
         for v in tender:
+            at_v = segments_at(v)
             near = [i for w in _vertebra_neighbours(v) for i in segments_at(w)]
-            gain = np.where(_below(top, segments_at(v)), TENDER_AT, np.where(_below(top, near), TENDER_NEAR, 0.0))
+            gain = np.where(np.isin(top, at_v), TENDER_AT,
+                            np.where(_below(top, at_v) | _below(top, near), TENDER_NEAR, 0.0))
             best = np.maximum(best, np.where(compression, gain, 0.0))
         out += best
     band = [(k[1], k[2]) for k in f.items if k[0] == "band_pain"]
@@ -87,8 +92,10 @@ def log_likelihood(f, at) -> np.ndarray | None:
         for side, derm in band:
             segs = a.dermatome_segments[derm]
             root = (pat == "root") & np.isin(top, segs) & (sides == side)
-            comp = compression & _below(top, segs) & np.isin(sides, (side, "both"))
-            best = np.maximum(best, np.where(root | comp, BAND_AT, 0.0))
+            comp = compression & np.isin(sides, (side, "both"))
+            gain = np.where(root | (comp & np.isin(top, segs)), BAND_AT,
+                            np.where(comp & _below(top, segs), BAND_NEAR, 0.0))
+            best = np.maximum(best, gain)
         out += best
     return out
 
