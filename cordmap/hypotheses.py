@@ -33,18 +33,35 @@ OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", *nerve_ids(), NORM
 CONFLICT_BELOW = 0.2
 
 
-def agreement(f, items, logp: np.ndarray, likely: np.ndarray) -> tuple[list, list]:
+def exam_values(f, items) -> tuple[np.ndarray, np.ndarray]:
+    """For the entered `items` of findings `f`: the index of each entered value among the item's values and
+    whether it is abnormal ((len(items),) arrays). What `agreement` needs of the exam itself, so a ranking works
+    it out once for all its hypotheses."""
+    values = [f.items[key] for key in items]
+    index = np.array([_value_index(key, v) for key, v in zip(items, values)], dtype=np.intp)
+    return index, np.array([abnormal(key, v) for key, v in zip(items, values)], dtype=bool)
+
+
+def _value_index(key, value) -> int:
+    """The index of `value` among the item's values (-1 if it is not one of them)."""
+    values = item_values(key)
+    return values.index(value) if value in values else -1
+
+
+def agreement(f, items, logp: np.ndarray, likely: np.ndarray, exam=None) -> tuple[list, list]:
     """(explained, conflicting) for one candidate: lists of (key, entered, predicted) triples over the entered
     `items`; `logp[j]` is the candidate's log-probability of the entered value of `items[j]`, `likely[j]` the
-    index of its most likely value. Explained: the predicted value is the entered one and it is abnormal."""
+    index of its most likely value. Explained: the predicted value is the entered one and it is abnormal.
+    `exam`: `exam_values(f, items)`, if the caller has it."""
+    index, ab = exam_values(f, items) if exam is None else exam
+    likely = np.asarray(likely, dtype=np.intp).reshape(-1)
+    conflicts = np.exp(np.asarray(logp)) < CONFLICT_BELOW
+    explained = ~conflicts & (likely == index) & ab
     agree, conflict = [], []
-    for key, c, k in zip(items, logp, likely):
-        entered = f.items[key]
-        pv = item_values(key)[int(k)]
-        if np.exp(c) < CONFLICT_BELOW:
-            conflict.append((key, entered, pv))
-        elif pv == entered and abnormal(key, entered):
-            agree.append((key, entered, pv))
+    for j in np.flatnonzero(conflicts | explained):
+        key = items[j]
+        triple = (key, f.items[key], item_values(key)[int(likely[j])])
+        (conflict if conflicts[j] else agree).append(triple)
     return agree, conflict
 
 
