@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import hashlib
 import itertools
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -195,8 +196,10 @@ def _cache_path(phase: str) -> Path:
     return _cache_root() / f"atlas-{model_version()}-{phase}"
 
 
-def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 1024) -> Atlas:
-    """Compute the atlas from the model (no cache)."""
+def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 1024,
+          logp_out: Callable[[tuple[int, int]], np.ndarray] | None = None) -> Atlas:
+    """Compute the atlas from the model (no cache). `logp_out(shape)`, if given, returns the float32 array to
+    fill with logp (the disk cache's memory map: `get`)."""
     vs = variants()
     per_seg, area_seg = _variant_losses(vs, resolution)
     var, top, bottom = enumerate_candidates(vs)
@@ -204,7 +207,8 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
     area = ((cum[var, bottom + 1] - cum[var, top]) / (bottom - top + 1)).astype(np.float32)
     items = all_items()
     offsets = np.concatenate([[0], np.cumsum([len(item_values(k)) for k in items])]).astype(np.int32)
-    logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
+    shape = (int(offsets[-1]), len(var))
+    logp = np.empty(shape, dtype=np.float32) if logp_out is None else logp_out(shape)
     likely = np.empty((len(items), len(var)), dtype=np.int8)
     neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in vs])
     nerve = nerves.candidate_codes([v.pattern for v in vs], [v.side for v in vs],  # single nerve lesions
@@ -304,11 +308,51 @@ def get(phase: str = "chronic", disk: bool = True) -> Atlas:
             atlas = _load(path, phase)
         except (OSError, ValueError, KeyError):
             atlas = None
+    if atlas is None and disk:
+        atlas = _build_saved(phase, path)
     if atlas is None:
         atlas = build(phase)
-        if disk:
-            _save(atlas, path)
     _MEMORY[phase] = atlas
+    return atlas
+
+
+def _build_saved(phase: str, path: Path) -> Atlas | None:
+    """Build the atlas straight into a new cache folder: logp is filled in place in the memory-mapped logp.npy
+    (one copy of the matrix in memory, in the page cache other processes map, not a second one written out after;
+    about 150 MB that a fresh process pays to touch), the folder renamed into place when complete, then the caches
+    of older versions removed. None if the folder cannot be made or written (the caller builds in memory)."""
+    import os
+    import shutil
+    import tempfile
+
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
+    except OSError:
+        return None
+
+    def logp_file(shape):
+        mm = np.lib.format.open_memmap(tmp / "logp.npy", mode="w+", dtype=np.float32, shape=shape)
+        with open(tmp / "logp.npy", "r+b") as fh:  # the disk space now, so a full disk is an OSError, not a
+            os.posix_fallocate(fh.fileno(), 0, os.fstat(fh.fileno()).st_size)  # fault while the pages fill
+        return mm
+
+    try:
+        atlas = build(phase, logp_out=logp_file)
+        atlas.logp.flags.writeable = False
+        np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
+                 offsets=atlas.offsets, likely=atlas.likely)
+    except OSError:
+        shutil.rmtree(tmp, ignore_errors=True)
+        return None
+    try:
+        tmp.rename(path)
+    except OSError:  # another process wrote it first (the pages stay mapped after the removal)
+        shutil.rmtree(tmp, ignore_errors=True)
+    try:
+        cachedir.prune(keep_prefix=f"atlas-{model_version()}-")  # only folders this cache wrote
+    except OSError:
+        pass
     return atlas
 
 
