@@ -266,6 +266,7 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
     leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
+    exam = exam_values(f, items)  # each recorded value's index and whether it is abnormal
     fit, advice = "good", ""
     if not items:
         fit, advice = "empty", "Nothing was entered: record at least one finding to rank lesions."
@@ -275,13 +276,12 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
                   "findings alone; re-examine if the story suggests a cord or root lesion.")
     else:
         fit, second, gain = assess_fit(at, items, [f.items[k] for k in items], w, raw, ll,
-                                       np.array([m[0] for m, _ in leading]))
+                                       np.array([m[0] for m, _ in leading]), exam[1])
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
-    exam = exam_values(f, items)
     hyps = () if fit == "empty" else tuple(
         _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d, rows, exam)
         for r, (members, gp) in enumerate(leading[:max(top, 1)]))
