@@ -10,6 +10,7 @@ whose sensory loss comes and goes down the body) and a figure of loss profiles a
 written to benchmarks/out/loss_profiles.png (--no-figure skips it). The machine is shared and noisy: medians and
 quartiles over many calls, each figure with its ratio to the target.
 """
+# ruff: noqa: E402  (numpy is imported after the BLAS thread setting)
 from __future__ import annotations
 
 import os
@@ -18,6 +19,11 @@ import sys
 import tempfile
 import time
 from pathlib import Path
+
+# One BLAS thread, as `import cordmap` sets when numpy is not loaded yet (cordmap/__init__.py): numpy loads
+# here first, so without this the figures were of a multithreaded BLAS that users of cordmap never get.
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("MKL_NUM_THREADS", "1")
 
 import numpy as np
 

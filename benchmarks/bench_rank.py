@@ -1,4 +1,5 @@
 """Ranker quality bars (issue 3): prints figures, asserts nothing. Run: python benchmarks/bench_rank.py"""
+# ruff: noqa: E402  (numpy is imported after the BLAS thread setting)
 from __future__ import annotations
 
 import os
@@ -6,6 +7,11 @@ import subprocess
 import sys
 import tempfile
 import time
+
+# One BLAS thread, as `import cordmap` sets when numpy is not loaded yet (cordmap/__init__.py): numpy loads
+# here first, so without this the figures were of a multithreaded BLAS that users of cordmap never get.
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("MKL_NUM_THREADS", "1")
 
 import numpy as np
 

@@ -51,8 +51,8 @@ class Anatomy:
             raise bad_value(where, seg, self.segments, "segment") from None
 
     def column_range(self, name: str) -> range:
-        row = self.column_table.set_index("column").loc[name]
-        return range(self.index(row["first"]), self.index(row["last"]) + 1)
+        first, last = _column_rows(self)[name]
+        return range(self.index(first), self.index(last) + 1)
 
     def vertebra(self, seg: str) -> str:
         return _vertebrae(self)[seg]
@@ -124,6 +124,13 @@ TENDON_REFLEXES = ("biceps", "brachioradialis", "triceps", "finger_flexors", "kn
 @cache
 def _vertebrae(a: Anatomy) -> dict[str, str]:
     return dict(zip(a.segment_table["segment"], a.segment_table["vertebra"]))
+
+
+@cache
+def _column_rows(a: Anatomy) -> dict[str, tuple[str, str]]:
+    """column -> (first, last) segment of the column table (read once: the sections ask for every column)."""
+    t = a.column_table
+    return {str(c): (f, la) for c, f, la in zip(t["column"], t["first"], t["last"])}
 
 
 @cache

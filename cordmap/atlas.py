@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import hashlib
 import itertools
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -25,10 +26,12 @@ from .anatomy import anatomy
 from .findings import all_items, item_values
 from .forward import (
     extent_losses,
-    extent_sums,
+    extent_sums_of_columns,
+    feature_index,
     fibre_losses_from_fractions,
     read_columns,
     readout,
+    region_to_feature,
     scale_fibres,
     with_neuropathy,
 )
@@ -193,8 +196,10 @@ def _cache_path(phase: str) -> Path:
     return _cache_root() / f"atlas-{model_version()}-{phase}"
 
 
-def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 1024) -> Atlas:
-    """Compute the atlas from the model (no cache)."""
+def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: int = 1024,
+          logp_out: Callable[[tuple[int, int]], np.ndarray] | None = None) -> Atlas:
+    """Compute the atlas from the model (no cache). `logp_out(shape)`, if given, returns the float32 array to
+    fill with logp (the disk cache's memory map: `get`)."""
     vs = variants()
     per_seg, area_seg = _variant_losses(vs, resolution)
     var, top, bottom = enumerate_candidates(vs)
@@ -202,17 +207,18 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
     area = ((cum[var, bottom + 1] - cum[var, top]) / (bottom - top + 1)).astype(np.float32)
     items = all_items()
     offsets = np.concatenate([[0], np.cumsum([len(item_values(k)) for k in items])]).astype(np.int32)
-    logp = np.empty((offsets[-1], len(var)), dtype=np.float32)
+    shape = (int(offsets[-1]), len(var))
+    logp = np.empty(shape, dtype=np.float32) if logp_out is None else logp_out(shape)
     likely = np.empty((len(items), len(var)), dtype=np.int8)
     neuropathy = np.array([dict(v.params).get("neuropathy", 0.0) for v in vs])
     nerve = nerves.candidate_codes([v.pattern for v in vs], [v.side for v in vs],  # single nerve lesions
                                    [dict(v.params).get("severity", 1.0) for v in vs])
     # once for every variant (each chunk only gathers from it), and only the feature columns the readout reads
     cols = read_columns()
-    sums = np.ascontiguousarray(extent_sums(per_seg, resolution)[:, :, cols])
+    sums = extent_sums_of_columns(per_seg, cols, resolution)
     for start in range(0, len(var), chunk):
         sl = slice(start, start + chunk)
-        L = np.zeros((len(var[sl]), per_seg.shape[2]), dtype=np.float32)
+        L = np.zeros((len(var[sl]), len(feature_index())), dtype=np.float32)
         L[:, cols] = extent_losses(sums, var[sl], top[sl], bottom[sl], resolution, cols)
         L = with_neuropathy(L, neuropathy[var[sl]])
         r = nerves.apply(readout(L, phase == "acute"), *(x[var[sl]] for x in nerve))
@@ -223,29 +229,69 @@ def build(phase: str = "chronic", resolution: int = DEFAULT_RESOLUTION, chunk: i
 
 @cache
 def _variant_losses(vs: tuple[Variant, ...], resolution: int) -> tuple[np.ndarray, np.ndarray]:
-    """Per variant and segment, the fibre losses (`forward.fibre_losses_per_segment` of its masks) and the share of
-    the cord's section inside the mask: (variants, 31, features), (variants, 31). Both phases share them.
+    """Per variant and segment, the fibre losses (`forward.fibre_losses_from_fractions` of its masks' region losses,
+    `forward.scale_fibres` for a loss that picks fibres by their length) of the feature columns the readout reads
+    (`forward.read_columns`, in that order), and the share of the cord's section inside the mask:
+    (variants, 31, columns), (variants, 31). Both phases share them.
 
-    Each mask is drawn, counted and dropped section by section (never all masks at once): the same numbers as
-    stacking them, in a fraction of the time and memory.
+    Masks are drawn, counted and dropped section by section, a few dozen at a time (never all masks at once, so the
+    temporaries stay small): the same numbers as stacking them, in a fraction of the time and memory.
     """
     secs = sections(resolution)
+    cols = read_columns()
     cord = np.hypot(secs[0].x, secs[0].y) <= 1.0
     area_seg = np.empty((len(vs), len(secs)))
+    per_seg = np.empty((len(vs), len(secs), len(cols)), dtype=np.float32)
+    gather = _feature_gather(resolution)
     fractions = []
     for s, sec in enumerate(secs):
-        masks = np.stack(list(draw_masks([(v.pattern, v.side, dict(v.params)) for v in vs], sec)))
-        area_seg[:, s] = (masks * cord).sum(axis=(1, 2))  # a thinned mask counts its share of each pixel
-        fractions.append(sec.fraction_lost(masks))
-    per_seg = fibre_losses_from_fractions(fractions, resolution)
+        masks = draw_masks([(v.pattern, v.side, dict(v.params)) for v in vs], sec)
+        frac = np.empty((len(vs), len(sec.regions)), dtype=np.float32)
+        for start in range(0, len(vs), _MASKS_AT_ONCE):
+            chunk = np.stack(list(itertools.islice(masks, _MASKS_AT_ONCE)))
+            stop = start + len(chunk)
+            area_seg[start:stop, s] = (chunk * cord).sum(axis=(1, 2))  # a thinned mask counts its share of a pixel
+            frac[start:stop] = sec.fraction_lost(chunk)
+        if gather is None:
+            fractions.append(frac)
+        else:  # each read column takes one region's loss times its weight: what the matrix product gives
+            rows, weights = gather[s]
+            np.multiply(np.take(frac, rows, axis=1), weights, out=per_seg[:, s])
+    if gather is None:
+        per_seg[:] = fibre_losses_from_fractions(fractions, resolution)[:, :, cols]
+    else:
+        np.clip(per_seg, 0.0, 1.0, out=per_seg)
+    full = np.zeros((len(secs), len(feature_index())), dtype=np.float32)
     for i, v in enumerate(vs):
         shares = fibre_shares(v.pattern, dict(v.params))
         if shares:
-            per_seg[i] = scale_fibres(per_seg[i], shares)
+            full[:, cols] = per_seg[i]
+            per_seg[i] = scale_fibres(full, shares)[:, cols]
     per_seg.flags.writeable = False
     area_seg = area_seg / cord.sum()
     area_seg.flags.writeable = False
     return per_seg, area_seg
+
+
+_MASKS_AT_ONCE = 32  # masks stacked at once in `_variant_losses`
+
+
+@cache
+def _feature_gather(resolution: int) -> tuple[tuple[np.ndarray, np.ndarray], ...] | None:
+    """Per segment, for each read feature column, the one region whose loss it takes and the weight
+    (`forward.region_to_feature`): (regions (columns,), weights (columns,) float32). A product of a region loss and
+    a weight is what the float32 matrix product `fibre_losses_from_fractions` gives when a column has a single
+    non-zero weight (the other terms add exact zeros). None when a column draws on two regions or more: then the
+    build takes the matrix product itself."""
+    cols = read_columns()
+    out = []
+    for W in region_to_feature(resolution):
+        Wc = W[:, cols]
+        if ((Wc != 0).sum(axis=0) > 1).any():
+            return None
+        rows = np.argmax(Wc != 0, axis=0)
+        out.append((rows, np.ascontiguousarray(Wc[rows, np.arange(len(cols))])))
+    return tuple(out)
 
 
 _MEMORY: dict[str, Atlas] = {}
@@ -262,11 +308,51 @@ def get(phase: str = "chronic", disk: bool = True) -> Atlas:
             atlas = _load(path, phase)
         except (OSError, ValueError, KeyError):
             atlas = None
+    if atlas is None and disk:
+        atlas = _build_saved(phase, path)
     if atlas is None:
         atlas = build(phase)
-        if disk:
-            _save(atlas, path)
     _MEMORY[phase] = atlas
+    return atlas
+
+
+def _build_saved(phase: str, path: Path) -> Atlas | None:
+    """Build the atlas straight into a new cache folder: logp is filled in place in the memory-mapped logp.npy
+    (one copy of the matrix in memory, in the page cache other processes map, not a second one written out after;
+    about 150 MB that a fresh process pays to touch), the folder renamed into place when complete, then the caches
+    of older versions removed. None if the folder cannot be made or written (the caller builds in memory)."""
+    import os
+    import shutil
+    import tempfile
+
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
+    except OSError:
+        return None
+
+    def logp_file(shape):
+        mm = np.lib.format.open_memmap(tmp / "logp.npy", mode="w+", dtype=np.float32, shape=shape)
+        with open(tmp / "logp.npy", "r+b") as fh:  # the disk space now, so a full disk is an OSError, not a
+            os.posix_fallocate(fh.fileno(), 0, os.fstat(fh.fileno()).st_size)  # fault while the pages fill
+        return mm
+
+    try:
+        atlas = build(phase, logp_out=logp_file)
+        atlas.logp.flags.writeable = False
+        np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
+                 offsets=atlas.offsets, likely=atlas.likely)
+    except OSError:
+        shutil.rmtree(tmp, ignore_errors=True)
+        return None
+    try:
+        tmp.rename(path)
+    except OSError:  # another process wrote it first (the pages stay mapped after the removal)
+        shutil.rmtree(tmp, ignore_errors=True)
+    try:
+        cachedir.prune(keep_prefix=f"atlas-{model_version()}-")  # only folders this cache wrote
+    except OSError:
+        pass
     return atlas
 
 

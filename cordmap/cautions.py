@@ -78,42 +78,45 @@ def applicable(at, post, f, classification=None) -> tuple[str, ...]:
     import numpy as np
 
     from .anatomy import anatomy
+    from .hypotheses import count_abnormal
     from .items import abnormal, item_values
 
     a = anatomy()
     abn = [at.item_index[k] for k, v in f.items.items() if k in at.item_index and abnormal(k, v)]
     if abn:
-        share = (np.asarray(at.abnormal)[np.array(abn)] > 0).mean(axis=0)  # predicted abnormal, any grade
+        share = count_abnormal(at, abn) / len(abn)  # predicted abnormal, any grade
         reference = share[int(np.argmax(post))]  # what the most probable candidate explains
         w = np.where(share >= CAUTION_EXPLAINS * reference, post, 0.0)
         w = w / w.sum() if w.sum() > 0 else w
     else:
         w = np.zeros_like(post)
-    pat = at.pattern_of
-    cord = ~np.isin(pat, OUTSIDE)
+    def isin(names):
+        return _pattern_in(at, names)
+
+    cord = ~isin(OUTSIDE)
     below = _below_t6_abnormal(at)
     out = []
     weak = any(k[0] == "motor" and v in item_values(k) and v < 4 for k, v in f.items.items())  # "NT" is not weak
-    in_cord = w[cord & ~np.isin(pat, SACRAL + MOTOR_ONLY)].sum()
-    sacral = w[np.isin(pat, SACRAL)].sum()
+    in_cord = w[cord & ~isin(SACRAL + MOTOR_ONLY)].sum()
+    sacral = w[isin(SACRAL)].sum()
     extensor = any(k[0] == "reflex" and k[2] == "plantar" and v == "extensor" for k, v in f.items.items())
     # retention and a sensory level are signs of the cauda equina too: they call it a myelopathy unless the sacral
     # hypotheses carry most of the probability
-    if (w[np.isin(pat, CORD_COMPRESSION)].sum() > 0.1 or f.phase == "acute" or extensor
+    if (w[isin(CORD_COMPRESSION)].sum() > 0.1 or f.phase == "acute" or extensor
             or (_myelopathy_signs(f) and sacral <= 0.5) or (weak and in_cord > 0.5)):
         out.append(THIS_MYELOPATHY)
-    if w[np.isin(pat, SACRAL) & _saddle(at)].sum() > CAUTION_MASS:
+    if w[isin(SACRAL) & _saddle(at)].sum() > CAUTION_MASS:
         out.append(THIS_CAUDA_EQUINA)
     k = at.item_index[("sign", "diaphragm", "")]
     weak_diaphragm = at.likely[k] == item_values(("sign", "diaphragm", "")).index("weak")
-    bilateral = np.array([v.side == "both" for v in at.variants])[at.variant]
+    bilateral = _bilateral(at)
     high = cord & (((at.top <= a.index("C5")) & bilateral & (below | weak_diaphragm))
                    | ((at.top <= a.index("C4")) & weak_diaphragm))
     acute_complete = cord & (at.top <= a.index("C8")) & (f.phase == "acute") & _no_sacral_sparing(at)
     if (w[high | acute_complete].sum() > CAUTION_MASS or f.items.get(("sign", "diaphragm", "")) == "weak"
             or _acute_complete_cervical(f, classification)):
         out.append(THIS_BREATHING)
-    if w[cord & ~np.isin(pat, AUTONOMIC_SPARED) & (at.top <= a.index("T6")) & below].sum() > CAUTION_MASS:
+    if w[cord & ~isin(AUTONOMIC_SPARED) & (at.top <= a.index("T6")) & below].sum() > CAUTION_MASS:
         out.append(THIS_DYSREFLEXIA)
     out.append(DECISION_SUPPORT)
     return tuple(out)
@@ -134,6 +137,27 @@ def combined(*groups) -> tuple[str, ...]:
 
 
 _BELOW: dict[int, tuple] = {}
+_PATTERNS_IN: dict[tuple, tuple] = {}
+
+
+def _pattern_in(at, names: tuple):
+    """(n,) bool: the candidate's pattern is one of `names` (`np.isin` over the atlas' patterns, kept per atlas)."""
+    import numpy as np
+
+    hit = _PATTERNS_IN.get((id(at), names))
+    if hit is None or hit[0] is not at:
+        hit = _PATTERNS_IN[(id(at), names)] = (at, np.isin(at.pattern_of, names))
+    return hit[1]
+
+
+def _bilateral(at):
+    """(n,) bool: a lesion of both sides (kept per atlas)."""
+    import numpy as np
+
+    hit = _PATTERNS_IN.get((id(at), "bilateral"))
+    if hit is None or hit[0] is not at:
+        hit = _PATTERNS_IN[(id(at), "bilateral")] = (at, np.array([v.side == "both" for v in at.variants])[at.variant])
+    return hit[1]
 
 
 def _below_t6_abnormal(at):

@@ -40,11 +40,12 @@ def _self_fit(at: atlas_mod.Atlas, i: int, items: list[tuple], w: np.ndarray) ->
 
 
 def best_pair(at, items: list[tuple], recorded_values: list, raw: np.ndarray, w: np.ndarray, ll: np.ndarray,
-              firsts: np.ndarray) -> tuple[int, int, float]:
+              firsts: np.ndarray, recorded: np.ndarray | None = None) -> tuple[int, int, float]:
     """The pair of separate lesions (see `separate`) that best explains the exam: the first among `firsts`
     (candidate indices), the second any candidate. The pair predicts i's findings, and j's where i predicts a
     normal item (a second lesion adds its own findings; it is not used to deepen the first one's), so adding j to
     i changes the fit by the log-probabilities `raw` (examined x candidates) of those items, weighted by `w`.
+    `recorded`: whether each recorded value is abnormal (worked out here if not given).
     Returns (i, j, log-likelihood of the pair)."""
     rows = np.array([at.item_index[k] for k in items])
     lead = int(firsts[0])
@@ -53,7 +54,8 @@ def best_pair(at, items: list[tuple], recorded_values: list, raw: np.ndarray, w:
     firsts = firsts[_masks(at).pairable[firsts]]
     # A second lesion can only gain on findings recorded abnormal where the first predicts normal: when every
     # first lesion tried explains all the abnormal findings, there is nothing to search for.
-    recorded = np.array([abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
+    if recorded is None:
+        recorded = np.array([abnormal(k, v) for k, v in zip(items, recorded_values)], dtype=bool)
     unexplained = recorded[:, None] & (at.abnormal[np.ix_(rows, firsts)] == 0)
     if not len(firsts) or not unexplained.any():
         return best
@@ -70,31 +72,37 @@ def best_pair(at, items: list[tuple], recorded_values: list, raw: np.ndarray, w:
         seen = raw[:, cols] * w[:, None]  # weighted log-probability of each recorded value
         gain = z @ (seen * pos) - (z * (raw[:, group] * w[:, None]).T) @ pos
         for k, i in enumerate(group):
-            g = np.where(separate(at, int(i))[cols], gain[k], -np.inf)
+            g = np.where(separate(at, int(i), cols), gain[k], -np.inf)
             j = int(g.argmax())
             if ll[i] + g[j] > best[2]:
                 best = (int(i), int(cols[j]), float(ll[i] + g[j]))
     return best
 
 
-def separate(at, i: int) -> np.ndarray:
+def separate(at, i: int, cols: np.ndarray | None = None) -> np.ndarray:
     """(candidates,) which lesions count as a second, separate lesion beside candidate i: their segments lie more
     than PAIR_GAP segments from i's (PAIR_GAP_CORD for two cord lesions), or both lie outside the cord on opposite
     sides (two roots). Two overlapping or nearby cord lesions are one lesion of a shape the atlas lacks (a tapering
-    compression, an intramedullary tumour with a cyst), not two lesions."""
+    compression, an intramedullary tumour with a cyst), not two lesions. With `cols` (candidate indices), the same
+    for those candidates only: `separate(at, i)[cols]`."""
     m = _masks(at)
-    gap = np.where(m.outside | m.outside[i], PAIR_GAP, PAIR_GAP_CORD)
-    apart = (at.top > at.bottom[i] + gap) | (at.bottom < at.top[i] - gap)
-    opposite = (m.outside & m.outside[i] & m.one_side & m.one_side[i]) & (m.side_code != m.side_code[i])
-    ok = (apart | opposite) & m.pairable
+
+    def of(x):
+        return x if cols is None else x[cols]
+
+    outside = of(m.outside)
+    gap = np.where(outside | m.outside[i], PAIR_GAP, PAIR_GAP_CORD)
+    apart = (of(at.top) > at.bottom[i] + gap) | (of(at.bottom) < at.top[i] - gap)
+    opposite = (outside & m.outside[i] & of(m.one_side) & m.one_side[i]) & (of(m.side_code) != m.side_code[i])
+    ok = (apart | opposite) & of(m.pairable)
     if not m.root_level[i]:  # a cord lesion pairs with a root-level one only
-        ok &= m.root_level
+        ok &= of(m.root_level)
     # One sac: a cauda equina lesion with another lesion in it is one lesion of the cauda equina (two lumbosacral
     # roots on opposite sides stay a pair: two discs).
     if m.cauda_equina[i]:
-        ok &= ~m.in_the_sac
+        ok &= ~of(m.in_the_sac)
     elif m.in_the_sac[i]:
-        ok &= ~m.cauda_equina
+        ok &= ~of(m.cauda_equina)
     return ok
 
 
@@ -141,15 +149,15 @@ def _masks(at) -> _Masks:
 
 
 def assess_fit(at, items: list[tuple], values: list, w: np.ndarray, raw: np.ndarray, ll: np.ndarray,
-               leaders: np.ndarray) -> tuple[str, int, float]:
+               leaders: np.ndarray, recorded: np.ndarray | None = None) -> tuple[str, int, float]:
     """'good' or 'poor' for the best single candidate `leaders[0]`, with the second lesion of the best pair and
     what the pair gains in (weighted) nats over the best single lesion. `raw` holds the log-probability of each
     recorded value (examined x candidates), `w` the items' weights; `leaders` the best member of each leading
-    hypothesis."""
+    hypothesis; `recorded` whether each recorded value is abnormal, if the caller has it."""
     b = int(leaders[0])
     mean, var = _self_fit(at, b, items, w)
     gap = mean - float(ll[b])
-    first, second, pair = best_pair(at, items, values, raw, w, ll, leaders[:PAIR_FIRSTS])
+    first, second, pair = best_pair(at, items, values, raw, w, ll, leaders[:PAIR_FIRSTS], recorded)
     gain = pair - float(ll[b])
     poor = (gap > POOR_FIT_NATS and gap > POOR_FIT_Z * np.sqrt(max(var, 1e-9))) or gain > SECOND_LESION_GAIN
     return ("poor" if poor else "good"), (second if first == b else first), gain

@@ -33,19 +33,83 @@ OUTSIDE_THE_CORD = ("root", "cauda_equina", "polyneuropathy", *nerve_ids(), NORM
 CONFLICT_BELOW = 0.2
 
 
-def agreement(f, items, logp: np.ndarray, likely: np.ndarray) -> tuple[list, list]:
+def exam_values(f, items) -> tuple[np.ndarray, np.ndarray]:
+    """For the entered `items` of findings `f`: the index of each entered value among the item's values and
+    whether it is abnormal ((len(items),) arrays). What `agreement` needs of the exam itself, so a ranking works
+    it out once for all its hypotheses."""
+    values = [f.items[key] for key in items]
+    index = np.array([_value_index(key, v) for key, v in zip(items, values)], dtype=np.intp)
+    return index, np.array([abnormal(key, v) for key, v in zip(items, values)], dtype=bool)
+
+
+def _value_index(key, value) -> int:
+    """The index of `value` among the item's values (-1 if it is not one of them)."""
+    values = item_values(key)
+    return values.index(value) if value in values else -1
+
+
+def agreement(f, items, logp: np.ndarray, likely: np.ndarray, exam=None) -> tuple[list, list]:
     """(explained, conflicting) for one candidate: lists of (key, entered, predicted) triples over the entered
     `items`; `logp[j]` is the candidate's log-probability of the entered value of `items[j]`, `likely[j]` the
-    index of its most likely value. Explained: the predicted value is the entered one and it is abnormal."""
+    index of its most likely value. Explained: the predicted value is the entered one and it is abnormal.
+    `exam`: `exam_values(f, items)`, if the caller has it."""
+    index, ab = exam_values(f, items) if exam is None else exam
+    likely = np.asarray(likely, dtype=np.intp).reshape(-1)
+    conflicts = np.exp(np.asarray(logp)) < CONFLICT_BELOW
+    explained = ~conflicts & (likely == index) & ab
     agree, conflict = [], []
-    for key, c, k in zip(items, logp, likely):
-        entered = f.items[key]
-        pv = item_values(key)[int(k)]
-        if np.exp(c) < CONFLICT_BELOW:
-            conflict.append((key, entered, pv))
-        elif pv == entered and abnormal(key, entered):
-            agree.append((key, entered, pv))
+    for j in np.flatnonzero(conflicts | explained):
+        key = items[j]
+        triple = (key, f.items[key], item_values(key)[int(likely[j])])
+        (conflict if conflicts[j] else agree).append(triple)
     return agree, conflict
+
+
+_BITS: dict[int, tuple] = {}
+
+
+def _abnormal_bits(at: atlas_mod.Atlas) -> np.ndarray:
+    """(words, n) uint64: bit r % 64 of word r // 64 of candidate i is set when i predicts item r abnormal
+    (`Atlas.abnormal` > 0). Built once per atlas."""
+    hit = _BITS.get(id(at))
+    if hit is None or hit[0] is not at:
+        ab = np.asarray(at.abnormal) > 0  # (items, n)
+        words = -(-ab.shape[0] // 64)
+        padded = np.zeros((words * 64, ab.shape[1]), dtype=bool)
+        padded[:ab.shape[0]] = ab
+        bits = np.packbits(padded, axis=0, bitorder="little")  # (words * 8, n) bytes, item r in bit r % 8
+        bits = np.ascontiguousarray(bits.T).view("<u8").T  # (words, n): little-endian words of 64 items
+        hit = _BITS[id(at)] = (at, np.ascontiguousarray(bits))
+    return hit[1]
+
+
+def _row_words(at: atlas_mod.Atlas, rows) -> list[tuple[int, np.uint64]]:
+    """The (word, mask) pairs with the bits of items `rows` set, words without any left out."""
+    words = _abnormal_bits(at).shape[0]
+    flags = np.zeros(words * 64, dtype=bool)
+    flags[np.asarray(rows, dtype=np.intp)] = True
+    masks = np.packbits(flags, bitorder="little").view("<u8")
+    return [(w, m) for w, m in enumerate(masks) if m]
+
+
+def any_abnormal(at: atlas_mod.Atlas, rows) -> np.ndarray:
+    """(n,) bool: the candidate predicts at least one of the items `rows` abnormal, i.e.
+    `(at.abnormal[rows] > 0).any(axis=0)`, from the per-atlas bit sets (a few words per candidate, not rows x n)."""
+    bits = _abnormal_bits(at)
+    hit = np.zeros(bits.shape[1], dtype=np.uint64)
+    for w, m in _row_words(at, rows):
+        hit |= bits[w] & m
+    return hit != 0
+
+
+def count_abnormal(at: atlas_mod.Atlas, rows) -> np.ndarray:
+    """(n,) int: how many of the distinct items `rows` the candidate predicts abnormal, i.e.
+    `(at.abnormal[rows] > 0).sum(axis=0)`."""
+    bits = _abnormal_bits(at)
+    out = np.zeros(bits.shape[1], dtype=np.int64)
+    for w, m in _row_words(at, rows):
+        out += np.bitwise_count(bits[w] & m)
+    return out
 
 
 @dataclass(frozen=True)

@@ -645,8 +645,11 @@ def draw_masks(variants, sec: Section):
         shape = _shape_params(pat, params)
         key = (pattern, side, tuple(sorted(shape.items())))
         if key not in shapes:
-            shapes[key] = pat.draw(sec, sec.x if side != "left" else -sec.x, side, shape)
-        yield _thin(sec, shapes[key], params.get("severity", 1.0))
+            drawn = pat.draw(sec, sec.x if side != "left" else -sec.x, side, shape)
+            shapes[key] = (drawn, np.asarray(drawn, dtype=np.float32))  # converted once for all its severities
+        drawn, weights = shapes[key]
+        severity = params.get("severity", 1.0)
+        yield drawn if severity >= 1 else _thin(sec, weights, severity)
 
 
 def lesion_masks(lesion: Lesion, secs) -> np.ndarray:

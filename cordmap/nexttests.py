@@ -19,6 +19,7 @@ import numpy as np
 
 from .anatomy import anatomy
 from .findings import Findings
+from .hypotheses import any_abnormal
 from .items import bedside as finding_words  # noqa: F401 (where and what to test, in words; re-exported)
 from .items import feasible, item_values, sites, value_words  # noqa: F401 (re-exported)
 from .nerves import nerve_ids
@@ -156,7 +157,7 @@ def suggest(f: Findings, at, post: np.ndarray, order: np.ndarray, n: int = 5) ->
     # a candidate predicting every examined item normal is, for this exam, the normal cord: it counts as no lesion
     examined = [at.item_index[k] for k in f.items if k in at.item_index]
     if examined and (5, 2, -1) in classes:
-        silent = ~(np.asarray(at.abnormal)[examined] > 0).any(axis=0)
+        silent = ~any_abnormal(at, examined)
         code = np.where(silent, classes.index((5, 2, -1)), code)
     mass_all = np.bincount(code, weights=post, minlength=len(classes))
     score = np.log(np.maximum(post, 1e-300))

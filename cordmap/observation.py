@@ -92,14 +92,24 @@ def _sensory_log_block(loss: np.ndarray, out: np.ndarray) -> None:
     """(c, 28) loss -> `out` (28 x 3, c) float32 log P(recorded grade), dermatome-major:
     `np.log(_sensory_block(loss))`, transposed."""
     lo, hi = SENSORY_THRESHOLDS
-    g = np.where(loss < lo, 2, np.where(loss < hi, 1, 0)).astype(np.intp).T  # (28, c)
+    g = (loss.T < lo).astype(np.uint8)  # (28, c): 2 normal, 1 impaired, 0 absent
+    g += loss.T < hi
     shifts, table = _sensory_table()
     n = g.shape[0]
-    code = np.zeros_like(g)
+    code = np.zeros(g.shape, dtype=np.intp)  # < 3 ** len(shifts)
     for k, shift in enumerate(shifts):
-        code += g[np.clip(np.arange(n) - shift, 0, n - 1)] * 3 ** k
+        code += np.take(g, np.clip(np.arange(n) - shift, 0, n - 1), axis=0) * np.uint8(3 ** k)
     for v in range(3):  # row 3 d + v: dermatome d, recorded grade v (basic slices: views, written in place)
-        out[v::3] = table[:, v][code]
+        out[v::3] = np.take(table[:, v], code)
+
+
+def _motor_log_table(grade: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """float32 log `_motor_block` of each distinct grade: (table (6, distinct), index of each grade's column, in
+    grade's shape). Many candidates share a grade (5 for every muscle a lesion spares), and each grade's six
+    probabilities depend on that grade alone, so `np.log(_motor_block(grade))` is table.T[index], bit for bit."""
+    distinct, index = np.unique(grade, return_inverse=True)
+    table = np.log(_motor_block(distinct)).astype(np.float32)
+    return np.ascontiguousarray(table.T), index.reshape(grade.shape)
 
 
 def _motor_block(grade: np.ndarray) -> np.ndarray:
@@ -151,27 +161,41 @@ def item_weights(keys, groups: np.ndarray | None = None) -> np.ndarray:
     return w
 
 
+@cache
+def _item_places(items: tuple) -> tuple[tuple[np.ndarray, np.ndarray], ...]:
+    """Per table of a readout (sensory grades, key muscles, non-key muscles: flattened per candidate), the positions
+    in `items` of its items and the flat index of each in that table."""
+    a = anatomy()
+    names = muscle_names()
+    places: tuple[list, list, list] = ([], [], [])
+    for i, key in enumerate(items):
+        if key[0] == "sensory":
+            m, sd, d = MODALITIES.index(key[1]), SIDES.index(key[2]), a.dermatomes.index(key[3])
+            places[0].append((i, (m * len(SIDES) + sd) * len(a.dermatomes) + d))
+        elif key[0] == "motor":
+            places[1].append((i, SIDES.index(key[1]) * len(a.key_myotomes) + a.key_myotomes.index(key[2])))
+        elif key[0] == "muscle":
+            places[2].append((i, SIDES.index(key[1]) * len(names) + names.index(key[2])))
+    return tuple((np.array([i for i, _ in p], dtype=np.intp), np.array([j for _, j in p], dtype=np.intp))
+                 for p in places)
+
+
 def crisp_indices(r: Readout, items: tuple) -> np.ndarray:
     """(candidates, items) index of each candidate's predicted value of every item (what `simulate` reports):
     the exam a candidate predicts, before any examiner noise."""
-    a = anatomy()
     lo, hi = SENSORY_THRESHOLDS
-    out = np.empty((r.sensory.shape[0], len(items)), dtype=np.int8)
-    grade = np.where(r.sensory < lo, 2, np.where(r.sensory < hi, 1, 0))
-    motor = np.clip(np.floor(r.motor + 0.5), 0, 5)
-    muscles = np.clip(np.floor(r.muscles + 0.5), 0, 5)
-    names = muscle_names()
+    n = r.sensory.shape[0]
+    out = np.empty((n, len(items)), dtype=np.int8)
+    grade = (r.sensory < lo).astype(np.int8)  # 2 normal, 1 impaired, 0 absent
+    grade += r.sensory < hi
+    motor = np.clip(np.floor(r.motor + 0.5), 0, 5).astype(np.int8)
+    muscles = np.clip(np.floor(r.muscles + 0.5), 0, 5).astype(np.int8)
+    for (pos, flat), table in zip(_item_places(tuple(items)), (grade, motor, muscles)):
+        out[:, pos] = np.take(table.reshape(n, -1), flat, axis=1)
     for i, key in enumerate(items):
-        kind = key[0]
-        if kind == "sensory":
-            out[:, i] = grade[:, MODALITIES.index(key[1]), SIDES.index(key[2]), a.dermatomes.index(key[3])]
-        elif kind == "motor":
-            out[:, i] = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
-        elif kind == "muscle":
-            out[:, i] = muscles[:, SIDES.index(key[1]), names.index(key[2])]
-        elif kind == "reflex":
+        if key[0] == "reflex":
             out[:, i] = r.reflexes[(key[1], key[2])]
-        else:
+        elif key[0] not in ("sensory", "motor", "muscle"):
             out[:, i] = r.signs[(key[1], key[2])]
     return out
 
@@ -198,8 +222,8 @@ def log_probabilities_by_column(r: Readout, items: tuple, offsets: np.ndarray, o
             _sensory_log_block(r.sensory[:, MODALITIES.index(m), SIDES.index(s)],
                                out[offsets[i]:offsets[i + len(block)]])
             sens[(m, s)] = True
-    motor = np.log(_motor_block(r.motor)).astype(np.float32)
-    muscles = np.log(_motor_block(r.muscles)).astype(np.float32)  # non-key muscles: graded as the key ones
+    motor, motor_at = _motor_log_table(r.motor)
+    muscles, muscles_at = _motor_log_table(r.muscles)  # non-key muscles: graded as the key ones
     names = {m: i for i, m in enumerate(muscle_names())}
     ordinal4 = _ordinal_confusion(4)
     binary = _binary_confusion()
@@ -218,10 +242,10 @@ def log_probabilities_by_column(r: Readout, items: tuple, offsets: np.ndarray, o
                 out[o0:o1] = block.reshape(len(a.dermatomes), 3, n)[derm[key[3]]]
             continue
         if kind == "motor":
-            out[o0:o1] = motor[:, SIDES.index(key[1]), myo[key[2]]].T
+            out[o0:o1] = motor[:, motor_at[:, SIDES.index(key[1]), myo[key[2]]]]
             continue
         if kind == "muscle":
-            out[o0:o1] = muscles[:, SIDES.index(key[1]), names[key[2]]].T
+            out[o0:o1] = muscles[:, muscles_at[:, SIDES.index(key[1]), names[key[2]]]]
             continue
         if kind == "reflex":
             idx = r.reflexes[(key[1], key[2])]

@@ -29,6 +29,7 @@ from .hypotheses import (  # noqa: F401 (re-exported: tests and the CLI read the
     _leading,
     agreement,
     exam_groups,
+    exam_values,
     leading_groups,
     leading_hypotheses,
     listed,
@@ -258,12 +259,14 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
     clue = clues.log_likelihood(f, at)  # tenderness and band pain (findings format 2); None without them
     if clue is not None:
         lp = lp + clue
-    hidden = nerves.unseen(at, [at.item_index[k] for k in items])  # nerve lesions this exam cannot see
+    rows = np.array([at.item_index[k] for k in items], dtype=np.intp)  # the atlas' item of each recorded value
+    hidden = nerves.unseen(at, rows)  # nerve lesions this exam cannot see
     if hidden is not None:
         lp = lp + hidden
     post = _softmax(lp.astype(np.float64))
     d = _derived(at)
     leading = leading_hypotheses(lp, post, d, max(top, PAIR_FIRSTS, 1))
+    exam = exam_values(f, items)  # each recorded value's index and whether it is abnormal
     fit, advice = "good", ""
     if not items:
         fit, advice = "empty", "Nothing was entered: record at least one finding to rank lesions."
@@ -273,14 +276,14 @@ def rank(findings, top: int = 10, prior: Callable[[atlas_mod.Atlas], np.ndarray]
                   "findings alone; re-examine if the story suggests a cord or root lesion.")
     else:
         fit, second, gain = assess_fit(at, items, [f.items[k] for k in items], w, raw, ll,
-                                       np.array([m[0] for m, _ in leading]))
+                                       np.array([m[0] for m, _ in leading]), exam[1])
         if fit == "poor":
             advice = ("No single lesion explains these findings well: consider more than one lesion, or a cause "
                       "outside the cord (peripheral nerve, plexus, brain, functional), and re-examine.")
             if gain > SECOND_LESION_GAIN:
                 advice += f" A second lesion ({at.lesion(second).describe()}) would explain much of the rest."
     hyps = () if fit == "empty" else tuple(
-        _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d)
+        _hypothesis(r + 1, at, members, float(gp), ll, lp, f, items, raw, d, rows, exam)
         for r, (members, gp) in enumerate(leading[:max(top, 1)]))
     if clue is not None:  # a compression may lie at a tender vertebra above its level: image it too
         hyps = tuple(clues.with_windows(h, f) for h in hyps)
@@ -337,16 +340,19 @@ def _describe(items: list[tuple[tuple, object, object]], conflicts: bool) -> lis
 
 
 def _hypothesis(rank_no, at, members: np.ndarray, prob: float, ll: np.ndarray, score: np.ndarray, f: Findings,
-                items: list[tuple], raw: np.ndarray, d: _Derived) -> Hypothesis:
+                items: list[tuple], raw: np.ndarray, d: _Derived, rows: np.ndarray | None = None,
+                exam=None) -> Hypothesis:
     """The hypothesis `members` (one pattern, side and rostral segment; best first) in words, told by its best
     member i; `raw[:, i]` holds i's log-probability of the recorded value of each of `items`, `ll[i]` its
-    (weighted) log-likelihood, `score` every candidate's log posterior (unnormalised)."""
+    (weighted) log-likelihood, `score` every candidate's log posterior (unnormalised); `rows` the atlas' item of
+    each of `items`, `exam` `hypotheses.exam_values(f, items)` (worked out here if not given)."""
     i = int(members[0])
     lesion = at.lesion(i)
     same = same_exam(at, i, score)
     others = tuple(at.lesion(int(j)) for j in listed(at, same))
-    index = at.item_index
-    agree, conflict = agreement(f, items, raw[:, i], [d.likely[index[key], i] for key in items])
+    if rows is None:
+        rows = np.array([at.item_index[key] for key in items], dtype=np.intp)
+    agree, conflict = agreement(f, items, raw[:, i], d.likely[rows, i], exam)
     explains = _describe(agree, conflicts=False)
     conflicts = _describe(conflict, conflicts=True)
     reason = f"explains {len(agree)} abnormal finding{'s' * (len(agree) != 1)}"

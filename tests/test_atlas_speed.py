@@ -3,9 +3,11 @@
 The reference below is the build as it was written before it was made fast: every variant's masks drawn one by one
 on every section (`draw_mask`) and stacked, region losses counted mask by mask, the cumulative sums recomputed
 for every chunk over every feature, the candidates enumerated in Python loops, the observation model's sensory
-block summed shift by shift and its log taken item by item. The fast build (`atlas.build`) draws each incomplete
-shape once for its severities, counts all masks of a section at once, sums once and only the feature columns the
-readout reads, and looks the sensory log-probabilities up in a table. None of that may change one bit.
+block summed shift by shift and its log taken item by item, the predicted values read item by item. The fast
+build (`atlas.build`) draws each incomplete shape once for its severities, counts the masks of a section a few
+dozen at a time, takes each read feature column from its one region, sums once and only the feature columns the
+readout reads and only where a variant loses anything, looks the sensory log-probabilities up in a table and the
+muscles' per distinct grade. None of that may change one bit.
 """
 from __future__ import annotations
 
@@ -19,6 +21,7 @@ from cordmap import nerves, observation
 from cordmap.anatomy import MODALITIES, SIDES, anatomy
 from cordmap.findings import all_items, item_values
 from cordmap.forward import (
+    SENSORY_THRESHOLDS,
     along_extent,
     feature_index,
     fibre_losses_from_fractions,
@@ -80,6 +83,28 @@ def _log_probabilities(r, items, offsets):
     return out
 
 
+def _crisp_indices(r, items):
+    a = anatomy()
+    lo, hi = SENSORY_THRESHOLDS
+    out = np.empty((r.sensory.shape[0], len(items)), dtype=np.int8)
+    grade = np.where(r.sensory < lo, 2, np.where(r.sensory < hi, 1, 0))
+    motor = np.clip(np.floor(r.motor + 0.5), 0, 5)
+    muscles = np.clip(np.floor(r.muscles + 0.5), 0, 5)
+    names = nerves.muscle_names()
+    for i, key in enumerate(items):
+        if key[0] == "sensory":
+            out[:, i] = grade[:, MODALITIES.index(key[1]), SIDES.index(key[2]), a.dermatomes.index(key[3])]
+        elif key[0] == "motor":
+            out[:, i] = motor[:, SIDES.index(key[1]), a.key_myotomes.index(key[2])]
+        elif key[0] == "muscle":
+            out[:, i] = muscles[:, SIDES.index(key[1]), names.index(key[2])]
+        elif key[0] == "reflex":
+            out[:, i] = r.reflexes[(key[1], key[2])]
+        else:
+            out[:, i] = r.signs[(key[1], key[2])]
+    return out
+
+
 def reference_build(phase, chunk=4096):
     vs = atlas_mod.variants()
     secs = sections()
@@ -104,7 +129,7 @@ def reference_build(phase, chunk=4096):
         L = with_neuropathy(along_extent(per_seg, var[sl], top[sl], bottom[sl]), neuropathy[var[sl]])
         r = nerves.apply(readout(L, phase == "acute"), *(x[var[sl]] for x in nerve))
         logp[:, sl] = _log_probabilities(r, items, offsets).T
-        likely[:, sl] = observation.crisp_indices(r, items).T
+        likely[:, sl] = _crisp_indices(r, items).T
     return var, top, bottom, area, logp, likely
 
 
