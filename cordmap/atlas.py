@@ -178,7 +178,7 @@ def model_version() -> str:
         h.update(resources.files("cordmap.data").joinpath(name).read_bytes())
     here = Path(__file__).parent
     for mod in ("model.py", "forward.py", "lesions.py", "observation.py", "atlas.py", "findings.py", "items.py",
-                "nerves.py", "findings_v2.py"):
+                "nerves.py", "findings_v2.py", "findings_value.py", "anatomy.py"):
         h.update((here / mod).read_bytes())
     return h.hexdigest()[:16]
 
