@@ -56,6 +56,8 @@ class Atlas:
     logp: np.ndarray  # (columns, n) float32; read-only (a memory map when it comes from the disk cache)
     likely: np.ndarray | None = None  # (items, n) int8 index of each candidate's predicted value (its crisp exam,
     # as `simulate` reports it); the most likely recorded value if None
+    abnormal: np.ndarray | None = None  # (items, n) int8: how abnormal each candidate's most likely value of each
+    # item is (0 = normal); computed from `likely` if None (the disk cache memory-maps it: `_load_shared`)
 
     def __post_init__(self):
         object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
@@ -66,11 +68,11 @@ class Atlas:
             for k in range(len(self.items)):
                 likely[k] = self.logp[self.offsets[k]:self.offsets[k + 1]].argmax(axis=0)
             object.__setattr__(self, "likely", likely)
-        # (items, n) how abnormal each candidate's most likely value of each item is (0 = normal)
-        abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
-        for k, key in enumerate(self.items):
-            abn[k] = abnormality(key)[self.likely[k]]
-        object.__setattr__(self, "abnormal", abn)
+        if self.abnormal is None:
+            abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
+            for k, key in enumerate(self.items):
+                abn[k] = abnormality(key)[self.likely[k]]
+            object.__setattr__(self, "abnormal", abn)
 
     def __len__(self):
         return len(self.top)
@@ -280,7 +282,8 @@ def _save(atlas: Atlas, path: Path) -> None:
         tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
         np.save(tmp / "logp.npy", atlas.logp)
         np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                 offsets=atlas.offsets, likely=atlas.likely)
+                 offsets=atlas.offsets)
+        _save_shared(atlas, tmp)
         try:
             tmp.rename(path)
         except OSError:  # another process wrote it first
@@ -294,4 +297,20 @@ def _load(path: Path, phase: str) -> Atlas:
     logp = np.load(path / "logp.npy", mmap_mode="r")
     with np.load(path / "meta.npz") as z:
         return Atlas(phase, variants(), z["variant"], z["top"], z["bottom"], z["area"], all_items(), z["offsets"],
-                     logp, z["likely"])
+                     logp, **_load_shared(path))
+
+
+# ---- the per-candidate arrays every process derives alike, saved once beside logp.npy and memory-mapped, so the
+# dashboard's kernels share their pages instead of each holding a copy (issue 16: about 22 MB per kernel)
+
+SHARED = ("likely", "abnormal")  # Atlas fields, each (items, n) int8, saved as <name>.npy
+
+
+def _save_shared(atlas: Atlas, folder: Path) -> None:
+    for name in SHARED:
+        np.save(folder / f"{name}.npy", getattr(atlas, name))
+
+
+def _load_shared(folder: Path) -> dict[str, np.ndarray]:
+    """The shared arrays of a cache folder, memory-mapped read-only (OSError if one is missing: rebuilt)."""
+    return {name: np.load(folder / f"{name}.npy", mmap_mode="r") for name in SHARED}

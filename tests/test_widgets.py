@@ -185,6 +185,24 @@ def test_motor_reflex_sign_and_phase_widgets(app):
     assert not app.errors
 
 
+def test_closed_tabs_are_built_when_opened_and_show_the_exam(app):
+    """The muscle and sacral tabs are built on first opening (fewer widgets per page load) and then show the exam
+    as it stands, entered before they were built."""
+    assert app._open == {}  # a fresh app: only the sensation tab is built
+    assert app.tabs.children[1].children[0].value == "opening…"
+    app.commit(demo.case().replace({("motor", "left", "L3"): 2, ("sign", "bladder", ""): "retention"}, phase="acute"))
+    app.tabs.selected_index = 1
+    assert set(app._open) == {"power"}
+    assert app.tabs.children[1].children == (app.power.widget,)
+    assert app.power.entry[("motor", "left", "L3")].value == "2"
+    app.tabs.selected_index = 2
+    assert app.sacral.entry[("sign", "bladder", "")].value == "retention"
+    assert app.sacral.phase.value == "acute"
+    app.power.entry[("motor", "left", "L3")].value = "4"  # a built tab's entry still commits
+    assert app.findings.get(("motor", "left", "L3")) == 4
+    assert not app.errors
+
+
 def test_non_key_muscles_and_clues_widgets(app):
     # findings format 2 in the "Muscles & reflexes" tab (widgets/limb_panel.py)
     app.entry[("muscle", "right", "ankle_eversion")].value = "2"
@@ -443,6 +461,7 @@ def test_labels_are_in_a_clinicians_words(app):
     """Labels issue 16 replaced stay gone; S4-5 is written as the standard writes it (ISNCSCI worksheet, 2019)."""
     import ipywidgets as W
 
+    assert app.entry  # the tabs built when first opened, built now: their words are checked too
     texts, stack, seen = [], [app.widget], set()
     while stack:
         w = stack.pop()
