@@ -305,6 +305,7 @@ def main() -> int:
             # (c) sessions at once, for each count asked
             one_pss = kernel_pss_mb(proc.pid)
             print(f"    one session: {one_pss:.0f} MB proportional set size (its kernel)")
+            page.close(run_before_unload=True)  # Voila's beforeunload shuts its kernel down
             page.context.close()
             for n_sessions in a.sessions:
                 wait_kernels(proc.pid, 0, timeout=60)
