@@ -484,3 +484,20 @@ def test_labels_are_in_a_clinicians_words(app):
     assert app.pictures.map_mod.description != "map"
     assert ">S4-5<" in app.sensation.widget.children[0].value
     assert "voluntary anal contraction" in page
+
+
+def test_body_picture_prediction_is_the_simulated_exam(app):
+    """The body picture reads a ranked lesion's exam from the atlas (no section rasters built in the kernel): the
+    very exam `simulate` gives, for every hypothesis listed and a sample of other candidates."""
+    import numpy as np
+
+    from cordmap import atlas
+    from cordmap.simulate import simulate
+    from widgets import pictures
+
+    for h in app.ranking.hypotheses:
+        assert pictures.predicted(h) == simulate(h.lesion)
+    at = atlas.get(app.findings.phase)
+    for i in np.random.default_rng(7).choice(len(at), 40, replace=False):
+        lesion = at.lesion(int(i))
+        assert atlas.predicted_exam(lesion) == simulate(lesion)
