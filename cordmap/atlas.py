@@ -59,6 +59,8 @@ class Atlas:
     logp: np.ndarray  # (columns, n) float32; read-only (a memory map when it comes from the disk cache)
     likely: np.ndarray | None = None  # (items, n) int8 index of each candidate's predicted value (its crisp exam,
     # as `simulate` reports it); the most likely recorded value if None
+    abnormal: np.ndarray | None = None  # (items, n) int8: how abnormal each candidate's most likely value of each
+    # item is (0 = normal); computed from `likely` if None (the disk cache memory-maps it: `_load_shared`)
 
     def __post_init__(self):
         object.__setattr__(self, "_index", {k: i for i, k in enumerate(self.items)})
@@ -69,11 +71,11 @@ class Atlas:
             for k in range(len(self.items)):
                 likely[k] = self.logp[self.offsets[k]:self.offsets[k + 1]].argmax(axis=0)
             object.__setattr__(self, "likely", likely)
-        # (items, n) how abnormal each candidate's most likely value of each item is (0 = normal)
-        abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
-        for k, key in enumerate(self.items):
-            abn[k] = abnormality(key)[self.likely[k]]
-        object.__setattr__(self, "abnormal", abn)
+        if self.abnormal is None:
+            abn = np.empty((len(self.items), len(self.top)), dtype=np.int8)
+            for k, key in enumerate(self.items):
+                abn[k] = abnormality(key)[self.likely[k]]
+            object.__setattr__(self, "abnormal", abn)
 
     def __len__(self):
         return len(self.top)
@@ -366,7 +368,8 @@ def _save(atlas: Atlas, path: Path) -> None:
         tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
         np.save(tmp / "logp.npy", atlas.logp)
         np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                 offsets=atlas.offsets, likely=atlas.likely)
+                 offsets=atlas.offsets)
+        _save_shared(atlas, tmp)
         try:
             tmp.rename(path)
         except OSError:  # another process wrote it first
@@ -380,4 +383,53 @@ def _load(path: Path, phase: str) -> Atlas:
     logp = np.load(path / "logp.npy", mmap_mode="r")
     with np.load(path / "meta.npz") as z:
         return Atlas(phase, variants(), z["variant"], z["top"], z["bottom"], z["area"], all_items(), z["offsets"],
-                     logp, z["likely"])
+                     logp, **_load_shared(path))
+
+
+# ---- the per-candidate arrays every process derives alike, saved once beside logp.npy and memory-mapped, so the
+# dashboard's kernels share their pages instead of each holding a copy (issue 16: about 22 MB per kernel)
+
+SHARED = ("likely", "abnormal")  # Atlas fields, each (items, n) int8, saved as <name>.npy
+
+
+def _save_shared(atlas: Atlas, folder: Path) -> None:
+    for name in SHARED:
+        np.save(folder / f"{name}.npy", getattr(atlas, name))
+
+
+def _load_shared(folder: Path) -> dict[str, np.ndarray]:
+    """The shared arrays of a cache folder, memory-mapped read-only (OSError if one is missing: rebuilt)."""
+    return {name: np.load(folder / f"{name}.npy", mmap_mode="r") for name in SHARED}
+
+
+# ---- an atlas candidate's predicted exam read from `likely` (what `simulate` reports), so a dashboard kernel shows
+# the body picture of a ranked lesion without building the 31 section rasters `simulate` needs (about 1.1 s of CPU
+# and 30 MB per kernel, issue 16)
+
+PREDICTED_KINDS = ("sensory", "motor", "muscle", "reflex", "sign")  # the kinds `simulate` fills in
+_VARIANT_INDEX: dict[int, tuple[Atlas, dict]] = {}
+
+
+def predicted_exam(lesion: Lesion):
+    """The exam `lesion` predicts (as `simulate(lesion)` returns it) when it is a candidate of an atlas already in
+    memory, else None (the caller simulates)."""
+    from .findings import Findings
+
+    at = _MEMORY.get(lesion.phase)
+    if at is None:
+        return None
+    hit = _VARIANT_INDEX.get(id(at))
+    if hit is None or hit[0] is not at:
+        hit = _VARIANT_INDEX[id(at)] = (at, {(v.pattern, v.side, v.params): k for k, v in enumerate(at.variants)})
+    vid = hit[1].get((lesion.pattern, lesion.side, lesion.params))
+    segs = anatomy().segments
+    if vid is None or lesion.top not in segs or lesion.bottom not in segs:
+        return None
+    found = np.flatnonzero((at.variant == vid) & (at.top == segs.index(lesion.top))
+                           & (at.bottom == segs.index(lesion.bottom)))
+    if len(found) != 1 or at.lesion(int(found[0])) != lesion:
+        return None
+    i = int(found[0])
+    values = {key: item_values(key)[int(at.likely[k, i])] for k, key in enumerate(at.items)
+              if key[0] in PREDICTED_KINDS}
+    return Findings(values, f"simulated {lesion.describe()}", lesion.phase)

@@ -18,7 +18,7 @@ MARKER_TEXT = ("This folder is cordmap's atlas cache. cordmap removes only its o
                "here; it is safe to delete the whole folder.\n")
 SUBFOLDER = "cordmap-cache"
 ENTRY = re.compile(r"atlas-[0-9a-f]{16}-(chronic|acute)")
-ENTRY_FILES = {"logp.npy", "meta.npz"}
+ENTRY_FILES = {"logp.npy", "meta.npz", "likely.npy", "abnormal.npy"}
 
 
 def root() -> Path:

@@ -171,3 +171,20 @@ def test_hostile_label_is_escaped_in_the_page(demo_page, screenshot_dir):
     assert page.evaluate("window.__cm_owned === undefined")
     assert "<script>window.__cm_owned" not in page.content()
     page.screenshot(path=str(screenshot_dir / "dashboard-hostile-label.png"))
+
+
+def test_muscle_tab_is_built_when_opened(demo_page):
+    """The muscle and reflex tab is not sent with the page (fewer widgets per load): opening it builds it in the
+    kernel, and its dropdowns then show the exam and enter grades like the sensation cells."""
+    from widgets.labels import TAB_POWER
+
+    page = demo_page
+    page.click(f".cm-tabs .lm-TabBar-tab:has-text('{TAB_POWER}')")
+    sel = ".cm-motor-left-C5 select"  # a weak left arm: a conflict of the demo's leader, named in its facts
+    page.wait_for_selector(sel, state="visible")
+    before = page.inner_text(".cm-facts")
+    page.select_option(sel, label="0")
+    page.wait_for_function("([b]) => document.querySelector('.cm-facts').textContent !== b", arg=[before])
+    wait_idle(page)
+    assert page.locator(".cm-error:visible").count() == 0
+    page.click(".cm-tabs .lm-TabBar-tab >> nth=0")  # back to the sensation tab for the next test

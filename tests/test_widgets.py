@@ -185,6 +185,24 @@ def test_motor_reflex_sign_and_phase_widgets(app):
     assert not app.errors
 
 
+def test_closed_tabs_are_built_when_opened_and_show_the_exam(app):
+    """The muscle and sacral tabs are built on first opening (fewer widgets per page load) and then show the exam
+    as it stands, entered before they were built."""
+    assert app._open == {}  # a fresh app: only the sensation tab is built
+    assert app.tabs.children[1].children[0].value == "opening…"
+    app.commit(demo.case().replace({("motor", "left", "L3"): 2, ("sign", "bladder", ""): "retention"}, phase="acute"))
+    app.tabs.selected_index = 1
+    assert set(app._open) == {"power"}
+    assert app.tabs.children[1].children == (app.power.widget,)
+    assert app.power.entry[("motor", "left", "L3")].value == "2"
+    app.tabs.selected_index = 2
+    assert app.sacral.entry[("sign", "bladder", "")].value == "retention"
+    assert app.sacral.phase.value == "acute"
+    app.power.entry[("motor", "left", "L3")].value = "4"  # a built tab's entry still commits
+    assert app.findings.get(("motor", "left", "L3")) == 4
+    assert not app.errors
+
+
 def test_non_key_muscles_and_clues_widgets(app):
     # findings format 2 in the "Muscles & reflexes" tab (widgets/limb_panel.py)
     app.entry[("muscle", "right", "ankle_eversion")].value = "2"
@@ -443,6 +461,7 @@ def test_labels_are_in_a_clinicians_words(app):
     """Labels issue 16 replaced stay gone; S4-5 is written as the standard writes it (ISNCSCI worksheet, 2019)."""
     import ipywidgets as W
 
+    assert app.entry  # the tabs built when first opened, built now: their words are checked too
     texts, stack, seen = [], [app.widget], set()
     while stack:
         w = stack.pop()
@@ -465,3 +484,20 @@ def test_labels_are_in_a_clinicians_words(app):
     assert app.pictures.map_mod.description != "map"
     assert ">S4-5<" in app.sensation.widget.children[0].value
     assert "voluntary anal contraction" in page
+
+
+def test_body_picture_prediction_is_the_simulated_exam(app):
+    """The body picture reads a ranked lesion's exam from the atlas (no section rasters built in the kernel): the
+    very exam `simulate` gives, for every hypothesis listed and a sample of other candidates."""
+    import numpy as np
+
+    from cordmap import atlas
+    from cordmap.simulate import simulate
+    from widgets import pictures
+
+    for h in app.ranking.hypotheses:
+        assert pictures.predicted(h) == simulate(h.lesion)
+    at = atlas.get(app.findings.phase)
+    for i in np.random.default_rng(7).choice(len(at), 40, replace=False):
+        lesion = at.lesion(int(i))
+        assert atlas.predicted_exam(lesion) == simulate(lesion)

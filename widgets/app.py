@@ -39,12 +39,13 @@ from .style import CSS
 N_ROWS = 5  # hypotheses shown
 N_NEXT = 5  # next tests shown
 TAB_OF_KIND = {"sensory": 0, "motor": 1, "reflex": 1, "muscle": 1, "sign": 2}
+TAB_PANEL = {1: "power", 2: "sacral"}  # the tabs built when first opened
 
 
 class ExamApp:
     """The whole app. ``app.widget`` is the box to display; ``app.state`` the exam and its ranking; the panels are
     ``app.files``, ``app.sensation``, ``app.power``, ``app.sacral``, ``app.next_tests``, ``app.hypotheses``,
-    ``app.pictures``."""
+    ``app.pictures``; ``app.power`` and ``app.sacral`` are built when their tab is first opened or asked for."""
 
     def __init__(self, findings: Findings | None = None, ranker=None, top: int = N_ROWS,
                  defer_pictures: bool = False):
@@ -53,24 +54,58 @@ class ExamApp:
         self._target = None
         self.files = FilesPanel(st, self.report_pdf)
         self.sensation = SensationPanel(st)
-        self.power = PowerPanel(st)
-        self.sacral = SacralPanel(st)
+        # the other two entry tabs are built when first opened (or asked for): a page load then sends about 320
+        # fewer widgets, which the kernel, the server and the browser each pay for (issue 16, sessions at scale)
+        self._closed = {"power": PowerPanel, "sacral": SacralPanel}
+        self._open: dict = {}
         self.next_tests = NextTestsPanel(st, N_NEXT)
         self.hypotheses = HypothesesPanel(st, N_ROWS)
         self.pictures = PicturesPanel(st, deferred=defer_pictures)
-        self.entry = {**self.sensation.entry, **self.power.entry, **self.sacral.entry}
         self._layout()
         # what the eye goes to first is sent first: the leader and its cross-section, then the entries, then the
         # list, the next tests and the body picture
         for show in (self.hypotheses.show_head, self.pictures.show_section, self.files.show, self.sensation.show,
-                     self.power.show, self.sacral.show, self.hypotheses.show_list, self.next_tests.show,
-                     self.pictures.show_body):
+                     self._show_open_tabs, self.hypotheses.show_list, self.next_tests.show, self.pictures.show_body):
             st.observe(lambda _c, show=show: show(), names="revision")
         st.observe(self._on_busy, names="busy")
         st.observe(self._on_error, names="error")
         st.observe(st.guard(self._on_target), names="target")
+        self.tabs.observe(st.guard(self._on_tab), names="selected_index")
         st.commit(findings if findings is not None else demo.case(),
                   reason="opened " + ("the exam" if findings is not None else f"demo case {demo.DEFAULT}"))
+
+    # ------------------------------------------------------------ the entry tabs built when first opened
+
+    def _panel(self, name: str):
+        """The entry panel `name` ('power', 'sacral'), built and put in its tab on first use."""
+        panel = self._open.get(name)
+        if panel is None:
+            panel = self._open[name] = self._closed[name](self.state)
+            panel.show()
+            self._tab_box[name].children = (panel.widget,)
+        return panel
+
+    @property
+    def power(self) -> PowerPanel:
+        return self._panel("power")
+
+    @property
+    def sacral(self) -> SacralPanel:
+        return self._panel("sacral")
+
+    @property
+    def entry(self) -> dict:
+        """Item key -> its entry widget, over all three tabs (builds the tabs not yet opened)."""
+        return {**self.sensation.entry, **self.power.entry, **self.sacral.entry}
+
+    def _show_open_tabs(self) -> None:
+        for panel in self._open.values():
+            panel.show()
+
+    def _on_tab(self, change) -> None:
+        name = TAB_PANEL.get(change["new"])
+        if name is not None:
+            self._panel(name)
 
     def _layout(self) -> None:
         self.log = W.Output(layout=W.Layout(max_height="80px", overflow="auto"))
@@ -79,7 +114,8 @@ class ExamApp:
         self.error.add_class("cm-error")
         self.caution_box = W.HTML(" ".join(f"<b>•</b> {esc(c)}" for c in cautions.GENERAL))
         self.caution_box.add_class("cm-cautions")
-        self.tabs = W.Tab(children=[self.sensation.widget, self.power.widget, self.sacral.widget],
+        self._tab_box = {name: W.VBox([W.HTML("opening…")]) for name in self._closed}
+        self.tabs = W.Tab(children=[self.sensation.widget, self._tab_box["power"], self._tab_box["sacral"]],
                           titles=(labels.TAB_SENSATION, labels.TAB_POWER, labels.TAB_SACRAL))
         self.tabs.add_class("cm-tabs")
         left = W.VBox([self.tabs, self.next_tests.widget], layout=W.Layout(flex="0 0 auto"))
@@ -115,14 +151,16 @@ class ExamApp:
 
     def goto(self, item: tuple) -> None:
         """Take the user to the entry widget of `item` and ring it."""
-        w = self.entry.get(tuple(item))
+        tab = TAB_OF_KIND.get(item[0], 2)
+        panel = self.sensation if tab == 0 else self._panel(TAB_PANEL[tab])
+        w = panel.entry.get(tuple(item))
         if w is None:
             raise CordmapError(f"no entry cell for {item!r}")
         if self._target is not None:
             self._target.remove_class("cm-target")
         w.add_class("cm-target")
         self._target = w
-        self.tabs.selected_index = TAB_OF_KIND.get(item[0], 2)
+        self.tabs.selected_index = tab
         self.files.status.value = f"next: {esc(item_label(item))} (ringed)"
 
     # ------------------------------------------------------------ the state, for scripts and tests

@@ -63,8 +63,13 @@ def body_map(entered, predicted, modality: str = "pinprick", conflicts: tuple = 
 
 @lru_cache(maxsize=128)
 def predicted(hypothesis):
-    """The simulated findings of a hypothesis (cached: the same lesion is shown again and again)."""
-    return hypothesis.predicted()
+    """The predicted findings of a hypothesis (cached: the same lesion is shown again and again): read from the
+    atlas when its lesion is a candidate (`cordmap.atlas.predicted_exam`, the same exam without simulating it),
+    else simulated."""
+    from cordmap.atlas import predicted_exam
+
+    exam = predicted_exam(hypothesis.lesion)
+    return exam if exam is not None else hypothesis.predicted()
 
 
 @lru_cache(maxsize=8)
