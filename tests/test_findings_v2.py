@@ -210,7 +210,10 @@ PAIRS = [
      _exam("left", {"L2": 4, "L3": 2, "L4": 5}, {"hip_adduction": 5},
            {"L2": "impaired", "L3": "impaired", "L4": "impaired"}, {"knee": "absent", "ankle": "normal"}),
      "femoral",
-     _exam("left", {"L2": 4, "L3": 2, "L4": 4}, {"hip_adduction": 2},
+     # the L3 root: knee extension and hip adduction each draw on L2-L4, so one root lost leaves grade 3-4 (a
+     # grade 2 there, with no sensory loss beyond L3, reads as a partial anterior horn lesion since those have a
+     # severity); forward.LMN_EXPONENT, judgement
+     _exam("left", {"L2": 4, "L3": 3, "L4": 4}, {"hip_adduction": 3},
            {"L2": "normal", "L3": "impaired", "L4": "normal"}, {"knee": "absent", "ankle": "normal"}), "L3"),
 ]
 

@@ -59,12 +59,12 @@ def test_bad_case_names_the_value(tmp_path):
 
 def test_corpus_figures_hold(results):
     """Floors at the figures measured when the corpus came in and the model and ranker were reworked against it
-    (python benchmarks/bench_vignettes.py, 102 cases: top-1 82.6%, top-3 91.3%, windows 95.7%, two-lesion flags
+    (python benchmarks/bench_vignettes.py, 102 cases: top-1 84.8%, top-3 92.4%, windows 97.8%, two-lesion flags
     67%, false alarms 2.2%, normal 100%): a change that makes the ranking worse on textbook cases fails here."""
     s = casebook.summary(results)
     print("\ncorpus:", {k: round(v, 3) if isinstance(v, float) else v for k, v in s.items()})
     assert s["normal_called_normal"] == 1.0
-    assert s["top1"] >= 0.82 and s["top3"] >= 0.91 and s["window"] >= 0.95
+    assert s["top1"] >= 0.84 and s["top3"] >= 0.92 and s["window"] >= 0.97
     assert s["two_lesion_flags"] >= 0.6 and s["false_alarms"] <= 0.03
 
 
