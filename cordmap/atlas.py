@@ -343,7 +343,8 @@ def _build_saved(phase: str, path: Path) -> Atlas | None:
         atlas = build(phase, logp_out=logp_file)
         atlas.logp.flags.writeable = False
         np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                 offsets=atlas.offsets, likely=atlas.likely)
+                 offsets=atlas.offsets)
+        _save_shared(atlas, tmp)
     except OSError:
         shutil.rmtree(tmp, ignore_errors=True)
         return None
