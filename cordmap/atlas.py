@@ -342,9 +342,7 @@ def _build_saved(phase: str, path: Path) -> Atlas | None:
     try:
         atlas = build(phase, logp_out=logp_file)
         atlas.logp.flags.writeable = False
-        np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                 offsets=atlas.offsets)
-        _save_shared(atlas, tmp)
+        _save_rest(atlas, tmp)
     except OSError:
         shutil.rmtree(tmp, ignore_errors=True)
         return None
@@ -368,9 +366,7 @@ def _save(atlas: Atlas, path: Path) -> None:
         path.parent.mkdir(parents=True, exist_ok=True)
         tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}-", dir=path.parent))
         np.save(tmp / "logp.npy", atlas.logp)
-        np.savez(tmp / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
-                 offsets=atlas.offsets)
-        _save_shared(atlas, tmp)
+        _save_rest(atlas, tmp)
         try:
             tmp.rename(path)
         except OSError:  # another process wrote it first
@@ -378,6 +374,13 @@ def _save(atlas: Atlas, path: Path) -> None:
         cachedir.prune(keep_prefix=f"atlas-{model_version()}-")  # only folders this cache wrote
     except OSError:
         pass
+
+
+def _save_rest(atlas: Atlas, folder: Path) -> None:
+    """Everything of a cache folder but logp.npy: meta.npz and the shared per-candidate arrays."""
+    np.savez(folder / "meta.npz", variant=atlas.variant, top=atlas.top, bottom=atlas.bottom, area=atlas.area,
+             offsets=atlas.offsets)
+    _save_shared(atlas, folder)
 
 
 def _load(path: Path, phase: str) -> Atlas:
