@@ -59,17 +59,18 @@ def test_bad_case_names_the_value(tmp_path):
 
 def test_corpus_figures_hold(results):
     """Floors at the figures measured when the corpus came in and the model and ranker were reworked against it
-    (python benchmarks/bench_vignettes.py, 102 cases: top-1 84.8%, top-3 92.4%, windows 97.8%, two-lesion flags
-    67%, false alarms 2.2%, normal 100%): a change that makes the ranking worse on textbook cases fails here."""
+    (python benchmarks/bench_vignettes.py, 132 cases with the 30 blind f-cases added unseen: top-1 83.2%, top-3
+    91.6%, windows 95.8%, two-lesion flags 75%, false alarms 1.7%, normal 100%): a change that makes the ranking
+    worse on textbook cases fails here."""
     s = casebook.summary(results)
     print("\ncorpus:", {k: round(v, 3) if isinstance(v, float) else v for k, v in s.items()})
     assert s["normal_called_normal"] == 1.0
-    assert s["top1"] >= 0.84 and s["top3"] >= 0.92 and s["window"] >= 0.97
+    assert s["top1"] >= 0.83 and s["top3"] >= 0.91 and s["window"] >= 0.95
     assert s["two_lesion_flags"] >= 0.6 and s["false_alarms"] <= 0.03
 
 
 @pytest.mark.xfail(strict=True, reason="the bars of 'Rank like a neurologist' are not met yet: measured top-1 "
-                                       "82.6%, top-3 91.3%, two-lesion flags 67% (issue notes)")
+                                       "83.2%, top-3 91.6%, two-lesion flags 75% (issue notes)")
 def test_corpus_meets_the_bars(results):
     s = casebook.summary(results)
     assert s["top1"] >= 0.90 and s["top3"] == 1.0 and s["window"] >= 0.90
